@@ -1,0 +1,156 @@
+"""Hazard levels: thresholds switch exactly at the configured values; horizon summary; validation."""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime, timedelta
+
+import numpy as np
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from models.errors import InvalidInput
+from models.hazard import (
+    CAUTION,
+    DEFAULT_POLICY,
+    HazardPolicy,
+    hazard_level,
+    hazard_summary,
+    wave_power_deep_kw_m,
+)
+
+
+def _policy(**kw):
+    base = {
+        "name": "test agency",
+        "levels": [
+            {"level": 0, "label": "quiet"},
+            {"level": 1, "label": "watch", "set_height_m": 1.2},
+            {"level": 2, "label": "warn", "set_height_m": 2.4, "period_s": 17.0},
+            {"level": 3, "label": "close", "set_height_m": 3.6, "power_kw_m": 150.0},
+        ],
+    }
+    base.update(kw)
+    return HazardPolicy.from_mapping(base)
+
+
+def test_height_thresholds_switch_exactly_at_configured_values():
+    p = DEFAULT_POLICY
+    h = np.array([0.0, np.nextafter(1.0, 0), 1.0, np.nextafter(2.0, 0), 2.0, np.nextafter(3.5, 0), 3.5, 9.0])
+    assert hazard_level(p, h).tolist() == [0, 0, 1, 1, 2, 2, 3, 3]
+
+
+def test_default_policy_is_labelled_as_default():
+    assert DEFAULT_POLICY.is_default
+    assert "default" in DEFAULT_POLICY.name
+    assert [DEFAULT_POLICY.label(i) for i in range(4)] == ["level 0", "level 1", "level 2", "level 3"]
+    assert all("default" in lv.description for lv in DEFAULT_POLICY.levels)
+
+
+def test_period_and_power_triggers_any_mode():
+    p = _policy()
+    # small sets but long period reach level 2 in "any" mode; power reaches level 3
+    lv = hazard_level(p, [0.5, 0.5, 0.5, 0.5], period_s=[16.99, 17.0, 8.0, 8.0], power_kw_m=[0, 0, 149.9, 150.0])
+    assert lv.tolist() == [0, 2, 0, 3]
+
+
+def test_all_mode_needs_every_given_criterion():
+    p = _policy(combine="all")
+    lv = hazard_level(p, [2.5, 2.5, 3.7, 3.7], period_s=[16.0, 17.0, 8.0, 8.0], power_kw_m=[0, 0, 10.0, 150.0])
+    # 2.5 m @ 16 s: level 2 needs 17 s too -> level 1; at 17 s -> 2; 3.7 m, 8 s, 10 kW/m: level 3
+    # needs 150 kW/m and level 2 needs 17 s -> level 1; with 150 kW/m -> 3
+    assert lv.tolist() == [1, 2, 1, 3]
+
+
+def test_broadcasts_over_times_and_spots():
+    h = np.array([[0.5, 1.5, 2.5], [3.0, 4.0, 0.0]])
+    assert hazard_level(DEFAULT_POLICY, h).shape == (2, 3)
+    assert hazard_level(DEFAULT_POLICY, h).tolist() == [[0, 1, 2], [2, 3, 0]]
+
+
+@given(st.lists(st.floats(0, 10), min_size=1, max_size=30))
+def test_level_is_monotone_in_height(hs):
+    # invariant: a larger set height never gives a lower level (thresholds nested)
+    h = np.sort(np.array(hs))
+    assert np.all(np.diff(hazard_level(DEFAULT_POLICY, h).astype(int)) >= 0)
+
+
+def test_missing_series_and_bad_values_are_named():
+    with pytest.raises(InvalidInput, match="`period_s`"):
+        hazard_level(_policy(), [1.0], power_kw_m=[1.0])
+    with pytest.raises(InvalidInput, match="`set_height_m`.*index \\(1,\\)"):
+        hazard_level(DEFAULT_POLICY, [1.0, np.nan])
+    with pytest.raises(InvalidInput, match="`set_height_m`"):
+        hazard_level(DEFAULT_POLICY, [-1.0])
+
+
+def test_policy_validation_names_the_field():
+    with pytest.raises(InvalidInput, match=r"levels\[2\]\.set_height_m.*must not decrease"):
+        _policy(levels=[
+            {"label": "a"}, {"label": "b", "set_height_m": 2.0},
+            {"label": "c", "set_height_m": 1.0}, {"label": "d", "set_height_m": 3.0},
+        ])
+    with pytest.raises(InvalidInput, match=r"levels\[1\]\.set_height_m` is required"):
+        _policy(levels=[{"label": "a"}, {"label": "b"}, {"label": "c", "set_height_m": 1.0},
+                        {"label": "d", "set_height_m": 3.0}])
+    with pytest.raises(InvalidInput, match="4 entries"):
+        _policy(levels=[{"label": "a"}])
+    with pytest.raises(InvalidInput, match="combine"):
+        _policy(combine="most")
+    with pytest.raises(InvalidInput, match=r"levels\[0\]\.label` is required"):
+        _policy(levels=[{}, {}, {}, {}])
+
+
+def test_policy_round_trips_through_mapping():
+    p = _policy()
+    assert HazardPolicy.from_mapping(p.to_mapping()) == p
+
+
+T0 = datetime(2031, 5, 4, 0, tzinfo=UTC)
+
+
+def test_summary_onset_inside_horizon():
+    times = [T0 + timedelta(hours=i) for i in range(72)]
+    levels = np.zeros(72, dtype=int)
+    levels[10:20] = 1
+    levels[30:40] = 3
+    levels[50:60] = 2
+    s = hazard_summary(times, levels, horizon_hours=48, policy=DEFAULT_POLICY)
+    assert (s.current_level, s.max_level, s.onset_index) == (0, 3, 30)
+    assert s.onset_time == T0 + timedelta(hours=30)
+    assert s.max_label == "level 3"
+    assert s.caution == CAUTION
+    # a horizon ending one hour before the level-3 onset sees only level 1, from hour 10
+    s = hazard_summary(times, levels, horizon_hours=29, policy=DEFAULT_POLICY)
+    assert (s.max_level, s.onset_time) == (1, T0 + timedelta(hours=10))
+    # the horizon edge is inclusive: exactly 30 h reaches the level-3 step
+    s = hazard_summary(times, levels, horizon_hours=30)
+    assert (s.max_level, s.onset_index) == (3, 30)
+
+
+def test_summary_now_between_steps_and_current_at_max():
+    times = [T0 + timedelta(hours=3 * i) for i in range(8)]
+    levels = [0, 2, 2, 1, 0, 2, 0, 0]
+    s = hazard_summary(times, levels, horizon_hours=12, now=T0 + timedelta(hours=4))
+    # current = last step at/before now (hour 3, level 2), already the highest -> onset is now's step
+    assert (s.current_level, s.max_level, s.onset_index) == (2, 2, 1)
+
+
+def test_summary_validation():
+    with pytest.raises(InvalidInput, match="timezone-aware"):
+        hazard_summary([datetime(2031, 1, 1)], [0], horizon_hours=1)
+    with pytest.raises(InvalidInput, match="ascending"):
+        hazard_summary([T0, T0], [0, 0], horizon_hours=1)
+    with pytest.raises(InvalidInput, match="`levels`"):
+        hazard_summary([T0], [4], horizon_hours=1)
+
+
+def test_caution_says_guidance_and_local_rules():
+    assert "guidance" in CAUTION and "local rules" in CAUTION and "lifeguards" in CAUTION
+
+
+def test_deep_water_power_rule_of_thumb():
+    # P = rho g^2 Hm0^2 Te / (64 pi) ~ 0.49 Hm0^2 Te kW/m with rho = 1025, g = 9.81 (common practice,
+    # e.g. the "0.49 Hs^2 Te" rule quoted in wave-energy texts, from memory)
+    assert wave_power_deep_kw_m(1.0, 1.0, g=9.81) == pytest.approx(0.4906, rel=1e-3)
+    assert wave_power_deep_kw_m(2.0, 10.0, g=9.81) == pytest.approx(19.62, rel=1e-3)
