@@ -1,0 +1,1 @@
+"""`shoalcast` sub-commands, one module per command group; each has `register(subparsers)`."""

@@ -1,0 +1,303 @@
+"""The spot registry: import a profile + bathymetry file into the database, list and remove spots.
+
+Everything is read and checked before the database is touched, and a spot is replaced in one
+transaction, so a bad profile leaves the database exactly as it was.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import tomllib
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+from pydantic import ValidationError
+from sqlalchemy import select
+from sqlalchemy.orm import Session, selectinload
+
+from app.db.tables import Bathymetry, BreakPoint, Spot
+from app.errors import NotFound, ProfileError
+from app.schemas.profile import SpotProfile, describe_validation_error
+from app.schemas.spots import BreakPointPublic, GridSummary, SpotPublic
+from models.bathymetry import DepthGrid
+from models.geodesy import to_local, to_lonlat
+
+__all__ = [
+    "LoadedSpot",
+    "delete_spot",
+    "depth_grid_of",
+    "get_spot",
+    "import_spot",
+    "list_spots",
+    "load_profile",
+    "parse_profile_text",
+    "spot_public",
+]
+
+
+@dataclass(frozen=True)
+class LoadedPoint:
+    name: str
+    x: float
+    y: float
+    latitude: float
+    longitude: float
+    depth_m: float
+    reference_depth_m: float
+
+
+@dataclass(frozen=True)
+class LoadedSpot:
+    """A validated profile with its bathymetry on the local grid, ready to store."""
+
+    profile: SpotProfile
+    grid: DepthGrid
+    points: list[LoadedPoint]
+    bathymetry_file: str
+
+
+def parse_profile_text(text: str, *, where: str) -> SpotProfile:
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise ProfileError(f"{where}: not valid TOML: {exc}") from exc
+    try:
+        return SpotProfile.model_validate(raw)
+    except ValidationError as exc:
+        first = exc.errors()[0]
+        raise ProfileError(
+            describe_validation_error(exc, where=where), field=".".join(str(p) for p in first["loc"])
+        ) from exc
+
+
+def _inside(base: Path, relative: str, *, where: str) -> Path:
+    if Path(relative).is_absolute():
+        raise ProfileError(f"{where}: field `bathymetry.file`: must be a path relative to the profile, got {relative!r}", field="bathymetry.file")
+    target = (base / relative).resolve()
+    if not target.is_relative_to(base.resolve()):
+        raise ProfileError(f"{where}: field `bathymetry.file`: {relative!r} leaves the profile's folder", field="bathymetry.file")
+    if not target.is_file():
+        raise ProfileError(f"{where}: field `bathymetry.file`: no such file {relative!r}", field="bathymetry.file")
+    return target
+
+
+def _read_grid(profile: SpotProfile, path: Path) -> DepthGrid:
+    from app.formats import grids
+
+    spec = profile.bathymetry
+    origin = profile.origin
+    try:
+        if spec.format == "esri-ascii":
+            data = grids.parse_esri_ascii(path.read_text(encoding="utf-8", errors="replace"), name=path.name)
+        elif spec.format == "netcdf":
+            data = grids.read_netcdf_grid(path, variable=spec.variable)
+        else:
+            data = grids.parse_xyz(path.read_text(encoding="utf-8", errors="replace"), name=path.name, spacing_m=spec.spacing_m)
+        data = replace(data, crs=spec.crs) if spec.format != "netcdf" else data
+        return grids.to_depth_grid(
+            data, values=spec.values, origin=(origin.latitude, origin.longitude), spacing_m=spec.spacing_m
+        )
+    except ValueError as exc:  # GridError and friends name the file and line
+        raise ProfileError(f"bathymetry {path.name}: {exc}", field="bathymetry.file") from exc
+    except OSError as exc:
+        raise ProfileError(f"bathymetry {path.name}: cannot read: {exc}", field="bathymetry.file") from exc
+
+
+def load_profile(path: Path | str) -> LoadedSpot:
+    """Read and check a profile and its bathymetry; raise ProfileError naming the field or file."""
+    path = Path(path)
+    where = path.name
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise ProfileError(f"{where}: cannot read profile: {exc}") from exc
+    except UnicodeDecodeError as exc:
+        raise ProfileError(f"{where}: profile is not UTF-8 text") from exc
+    profile = parse_profile_text(text, where=where)
+    grid_path = _inside(path.parent, profile.bathymetry.file, where=where)
+    grid = _read_grid(profile, grid_path)
+    points = _locate_points(profile, grid, where=where)
+    return LoadedSpot(profile=profile, grid=grid, points=points, bathymetry_file=profile.bathymetry.file)
+
+
+def _locate_points(profile: SpotProfile, grid: DepthGrid, *, where: str) -> list[LoadedPoint]:
+    origin = profile.origin
+    xmax = grid.x0 + (grid.depth.shape[1] - 1) * grid.dx
+    ymax = grid.y0 + (grid.depth.shape[0] - 1) * grid.dy
+    out = []
+    for n, bp in enumerate(profile.break_points):
+        field = f"break_points.{n}"
+        if bp.x is not None and bp.y is not None:
+            x, y = bp.x, bp.y
+            lat, lon = (float(v) for v in to_lonlat(x, y, origin.latitude, origin.longitude))
+        else:
+            assert bp.latitude is not None and bp.longitude is not None
+            lat, lon = bp.latitude, bp.longitude
+            x, y = (float(v) for v in to_local(lat, lon, origin.latitude, origin.longitude))
+        if not (grid.x0 <= x <= xmax and grid.y0 <= y <= ymax):
+            raise ProfileError(
+                f"{where}: field `{field}` ({bp.name!r}): position x={x:.0f} m, y={y:.0f} m is off the grid "
+                f"(x {grid.x0:.0f}..{xmax:.0f}, y {grid.y0:.0f}..{ymax:.0f})",
+                field=field,
+            )
+        depth = float(grid.depth_at(np.array([x]), np.array([y]))[0])
+        if not np.isfinite(depth) or depth <= 0:
+            raise ProfileError(
+                f"{where}: field `{field}` ({bp.name!r}): the break point is on land or in no-data (depth {depth:.2f} m)",
+                field=field,
+            )
+        ref = bp.reference_depth_m or profile.model.reference_depth_m
+        out.append(LoadedPoint(bp.name, float(x), float(y), lat, lon, depth, ref))
+    return out
+
+
+def _sha256(*parts: bytes) -> str:
+    h = hashlib.sha256()
+    for p in parts:
+        h.update(p)
+    return h.hexdigest()
+
+
+def grid_sha256(grid: DepthGrid) -> str:
+    depth = np.ascontiguousarray(grid.depth, dtype=np.float64)
+    geometry = json.dumps([depth.shape, grid.x0, grid.y0, grid.dx, grid.dy]).encode()
+    return _sha256(depth.tobytes(), geometry)
+
+
+def import_spot(session: Session, path: Path | str) -> Spot:
+    """Import (or atomically replace) the spot a profile file describes."""
+    loaded = load_profile(path)
+    return store_spot(session, loaded)
+
+
+def store_spot(session: Session, loaded: LoadedSpot) -> Spot:
+    profile, grid = loaded.profile, loaded.grid
+    dump = profile.model_dump(mode="json")
+    existing = session.get(Spot, profile.id)
+    if existing is not None:
+        session.delete(existing)
+        session.flush()
+    origin = profile.origin
+    spot = Spot(
+        id=profile.id,
+        name=profile.name,
+        latitude=profile.latitude,
+        longitude=profile.longitude,
+        faces_deg=profile.faces_deg,
+        timezone=profile.timezone,
+        profile=dump,
+        profile_sha256=_sha256(json.dumps(dump, sort_keys=True).encode()),
+        sources=list(profile.sources),
+    )
+    spot.bathymetry = Bathymetry(
+        depth=np.asarray(grid.depth, dtype=np.float64),
+        nx=int(grid.depth.shape[1]),
+        ny=int(grid.depth.shape[0]),
+        x0=float(grid.x0),
+        y0=float(grid.y0),
+        dx=float(grid.dx),
+        dy=float(grid.dy),
+        origin_latitude=origin.latitude,
+        origin_longitude=origin.longitude,
+        datum=profile.bathymetry.datum,
+        source_file=loaded.bathymetry_file,
+        source_format=profile.bathymetry.format,
+        sha256=grid_sha256(grid),
+    )
+    spot.break_points = [
+        BreakPoint(
+            position=i,
+            name=p.name,
+            x=p.x,
+            y=p.y,
+            latitude=p.latitude,
+            longitude=p.longitude,
+            depth_m=p.depth_m,
+            reference_depth_m=p.reference_depth_m,
+        )
+        for i, p in enumerate(loaded.points)
+    ]
+    session.add(spot)
+    session.flush()
+    return spot
+
+
+def _spot_query():  # type: ignore[no-untyped-def]
+    return select(Spot).options(
+        selectinload(Spot.bathymetry), selectinload(Spot.break_points).selectinload(BreakPoint.table)
+    )
+
+
+def list_spots(session: Session) -> list[Spot]:
+    return list(session.scalars(_spot_query().order_by(Spot.id)))
+
+
+def get_spot(session: Session, spot_id: str) -> Spot:
+    spot = session.scalars(_spot_query().where(Spot.id == spot_id)).first()
+    if spot is None:
+        raise NotFound(f"no spot with id {spot_id!r}")
+    return spot
+
+
+def delete_spot(session: Session, spot_id: str) -> None:
+    session.delete(get_spot(session, spot_id))
+
+
+def depth_grid_of(spot: Spot) -> DepthGrid:
+    b = spot.bathymetry
+    if b is None:
+        raise NotFound(f"spot {spot.id!r} has no bathymetry")
+    return DepthGrid(depth=b.depth, x0=b.x0, y0=b.y0, dx=b.dx, dy=b.dy)
+
+
+def spot_public(spot: Spot) -> SpotPublic:
+    b = spot.bathymetry
+    assert b is not None
+    depth = b.depth
+    water = depth[np.isfinite(depth) & (depth > 0)]
+    grid = GridSummary(
+        nx=b.nx,
+        ny=b.ny,
+        dx_m=b.dx,
+        dy_m=b.dy,
+        x_range_m=(b.x0, b.x0 + (b.nx - 1) * b.dx),
+        y_range_m=(b.y0, b.y0 + (b.ny - 1) * b.dy),
+        depth_min_m=round(float(water.min()), 3) if water.size else 0.0,
+        depth_max_m=round(float(water.max()), 3) if water.size else 0.0,
+        land_fraction=round(1.0 - water.size / depth.size, 4),
+        datum=b.datum,
+        source_format=b.source_format,
+        sha256=b.sha256,
+    )
+    points = [
+        BreakPointPublic(
+            name=p.name,
+            x_m=round(p.x, 2),
+            y_m=round(p.y, 2),
+            latitude=round(p.latitude, 6),
+            longitude=round(p.longitude, 6),
+            depth_m=round(p.depth_m, 3),
+            reference_depth_m=p.reference_depth_m,
+            table_built_at=p.table.built_at if p.table is not None else None,
+        )
+        for p in spot.break_points
+    ]
+    return SpotPublic(
+        id=spot.id,
+        name=spot.name,
+        latitude=spot.latitude,
+        longitude=spot.longitude,
+        faces_deg=spot.faces_deg,
+        timezone=spot.timezone,
+        sources=list(spot.sources),
+        grid=grid,
+        break_points=points,
+        updated_at=spot.updated_at,
+    )
+
+
+def profile_document(spot: Spot) -> dict[str, Any]:
+    return dict(spot.profile)
