@@ -1,0 +1,149 @@
+"""Swell arrival: deep-water group delay, long periods first, time shifting with provenance."""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime, timedelta
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from models.errors import InvalidInput
+from models.propagation import (
+    EARTH_MEAN_RADIUS_M,
+    arrival_delay,
+    deep_group_speed,
+    great_circle_distance,
+    initial_bearing,
+    shift_to_spot,
+)
+
+G = 9.80665
+
+
+@pytest.mark.parametrize(
+    ("period", "cg", "hours_per_1000km"),
+    # physics.md §8 check values (Cg0 = gT/4π, computed there with g = 9.81: 14 s -> 10.929 m/s)
+    [(10, 7.807, 35.58), (12, 9.368, 29.65), (14, 10.929, 25.42), (16, 12.490, 22.24), (20, 15.613, 17.79)],
+)
+def test_group_speed_and_delay_check_values(period, cg, hours_per_1000km):
+    assert deep_group_speed(1.0 / period, g=9.81) == pytest.approx(cg, abs=6e-4)
+    # a component travelling straight at the spot (from the station's side): delay = distance / Cg
+    d = arrival_delay([1.0 / period], [270.0], distance_m=1.0e6, bearing_deg=90.0, g=9.81)
+    assert d[0, 0] / 3600 == pytest.approx(hours_per_1000km, abs=6e-3)
+
+
+def test_delay_is_projection_over_cg_and_long_periods_first():
+    f = np.array([1 / 20, 1 / 14, 1 / 10, 1 / 6])
+    dirs = np.arange(0.0, 360.0, 15.0)
+    dist, brg = 500e3, 60.0
+    d = arrival_delay(f, dirs, distance_m=dist, bearing_deg=brg)
+    along = dist * np.cos(np.radians(dirs + 180 - brg))
+    cg = G * (1 / f) / (4 * np.pi)
+    arr = along >= -1e-6
+    assert np.allclose(d[:, arr], along[arr][None, :] / cg[:, None], rtol=1e-12)
+    assert np.all(np.isinf(d[:, ~arr]))  # travelling away: never arrives
+    # long periods first, for every arriving direction
+    assert np.all(np.diff(d[:, arr & (along > 1.0)], axis=0) > 0)
+
+
+def test_dispersion_slope_recovers_distance():
+    # Munk 1947 / Snodgrass et al. 1966 (from memory): arrival frequency rises as df/dt = g/(4πΔ);
+    # physics.md §8: 0.01 Hz/day -> 6745 km
+    f = np.linspace(0.04, 0.1, 13)
+    d = arrival_delay(f, [0.0], distance_m=6745e3, bearing_deg=180.0, g=9.81)[:, 0]  # §8 uses g = 9.81
+    slope = np.polyfit(d, f, 1)[0] * 86400
+    assert slope == pytest.approx(0.01, rel=2e-4)
+
+
+def test_haversine_reference_values():
+    # a quarter meridian on the sphere: πR/2; one degree of longitude on the equator: R·π/180
+    assert great_circle_distance(0, 0, 90, 0) == pytest.approx(np.pi * EARTH_MEAN_RADIUS_M / 2, rel=1e-12)
+    assert great_circle_distance(0, 10, 0, 11) == pytest.approx(EARTH_MEAN_RADIUS_M * np.pi / 180, rel=1e-12)
+    # antipodes (haversine is ill-conditioned there: ~1e-8 relative from rounding of the inputs)
+    assert great_circle_distance(10, 20, -10, -160) == pytest.approx(np.pi * EARTH_MEAN_RADIUS_M, rel=1e-7)
+    assert initial_bearing(0, 0, 1, 0) == pytest.approx(0.0, abs=1e-9)
+    assert initial_bearing(0, 0, 0, 1) == pytest.approx(90.0)
+    assert initial_bearing(0, 0, -1, 0) == pytest.approx(180.0)
+    assert initial_bearing(0, 1, 0, 0) == pytest.approx(270.0)
+
+
+@settings(max_examples=50, deadline=None)
+@given(
+    st.floats(-80, 80), st.floats(-180, 180), st.floats(-80, 80), st.floats(-180, 180),
+)
+def test_haversine_symmetric_and_bounded(la1, lo1, la2, lo2):
+    a = great_circle_distance(la1, lo1, la2, lo2)
+    b = great_circle_distance(la2, lo2, la1, lo1)
+    assert a == pytest.approx(b, abs=1e-6)
+    assert 0 <= a <= np.pi * EARTH_MEAN_RADIUS_M + 1e-6
+
+
+T0 = datetime(2031, 3, 1, tzinfo=UTC)
+
+
+def _pulse_obs(nt=49):
+    """Hourly observations: one energetic hour (index 10) at every frequency, single direction."""
+    f = np.array([1 / 20, 1 / 14, 1 / 10])
+    dirs = np.array([270.0, 90.0])  # from the west (toward the spot, east) and from the east (away)
+    e = np.zeros((nt, 3, 2))
+    e[min(10, nt - 1)] = 1.0
+    times = [T0 + timedelta(hours=i) for i in range(nt)]
+    return times, f, dirs, e
+
+
+def test_shift_moves_each_frequency_by_its_delay_long_periods_first():
+    times, f, dirs, e = _pulse_obs()
+    dist = 500e3
+    target = [T0 + timedelta(minutes=10 * k) for k in range(6 * 48)]
+    r = shift_to_spot(times, f, dirs, e, distance_m=dist, bearing_deg=90.0, target_times=target)
+    peak_hours = np.array([np.argmax(r.efth[:, j, 0]) / 6 for j in range(3)])
+    expected = 10 + dist / (G / (4 * np.pi * f)) / 3600
+    assert np.all(np.abs(peak_hours - expected) <= 1 / 6 + 1e-9)
+    assert np.all(np.diff(peak_hours) > 0)  # 20 s arrives before 14 s before 10 s
+    # components from the east travel away from the spot: never there
+    assert not r.available[:, :, 1].any() and np.all(r.efth[:, :, 1] == 0)
+    # provenance: at the 20 s peak the source position is observation 10 (to within the grid)
+    k = int(np.argmax(r.efth[:, 0, 0]))
+    assert abs(r.source_position[k, 0, 0] - 10) <= 1 / 6 * 1.01
+    assert r.dominant_observation[k] == 10
+
+
+def test_shift_interpolates_linearly_and_is_exact_at_zero_distance():
+    times, f, dirs, _ = _pulse_obs(5)
+    rng = np.random.default_rng(3)
+    e = rng.random((5, 3, 2))
+    r = shift_to_spot(times, f, dirs, e, distance_m=0.0, bearing_deg=0.0, target_times=times)
+    assert np.array_equal(r.efth, e)  # no distance, no delay, every component available
+    assert r.first_observation.tolist() == [0, 1, 2, 3, 4]
+    mid = [T0 + timedelta(minutes=90)]
+    r = shift_to_spot(times, f, dirs, e, distance_m=0.0, bearing_deg=0.0, target_times=mid)
+    assert np.allclose(r.efth[0], 0.5 * (e[1] + e[2]))
+    assert (r.first_observation[0], r.last_observation[0]) == (1, 2)
+
+
+def test_outside_observation_span_is_unavailable_not_extrapolated():
+    times, f, dirs, e = _pulse_obs(5)
+    e = e + 1.0
+    r = shift_to_spot(times, f, dirs, e, distance_m=1e6, bearing_deg=90.0, target_times=[T0])
+    assert not r.available.any() and r.coverage[0] == 0 and r.first_observation[0] == -1
+    assert np.all(r.efth == 0)
+
+
+def test_input_validation_names_argument():
+    times, f, dirs, e = _pulse_obs(5)
+    with pytest.raises(InvalidInput, match="`efth`"):
+        shift_to_spot(times, f, dirs, e[:, :2], distance_m=1.0, bearing_deg=0.0, target_times=times)
+    bad = e.copy()
+    bad[2, 1, 0] = np.nan
+    with pytest.raises(InvalidInput, match=r"`efth`.*\(2, 1, 0\)"):
+        shift_to_spot(times, f, dirs, bad, distance_m=1.0, bearing_deg=0.0, target_times=times)
+    with pytest.raises(InvalidInput, match="`times`.*ascending"):
+        shift_to_spot(times[::-1], f, dirs, e, distance_m=1.0, bearing_deg=0.0, target_times=times)
+    with pytest.raises(InvalidInput, match="timezone-aware"):
+        shift_to_spot([datetime(2031, 1, 1)], f, dirs, e[:1], distance_m=1.0, bearing_deg=0.0, target_times=[0])
+    with pytest.raises(InvalidInput, match="`distance_m`"):
+        arrival_delay(f, dirs, distance_m=-1.0, bearing_deg=0.0)
+    with pytest.raises(InvalidInput, match="`lat1`"):
+        great_circle_distance(91, 0, 0, 0)
