@@ -1,0 +1,1 @@
+"""Offshore data in: sources (registry), store (validate -> store), fetch (httpx), scheduler (APScheduler)."""
