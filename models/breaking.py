@@ -1,0 +1,355 @@
+"""Depth-limited breaking of regular waves: breaker indices, breaker type, and shoaling with
+refraction over straight parallel contours up to the break point.
+
+Heights [m], depths [m] (positive), periods [s], slopes tan β [-], angles [deg] to the contour
+normal. Formulas are the published ones with their published coefficients; `g` defaults to
+models.constants.G.
+
+References
+----------
+McCowan, J. (1894) On the highest wave of permanent type. Phil. Mag. 38, 351-358.
+Miche, R. (1944) Mouvements ondulatoires de la mer en profondeur constante ou décroissante.
+Weggel, J.R. (1972) Maximum breaker height. J. Waterways Harbors Coastal Eng. Div. 98(WW4), 529-548;
+    as SPM (1984) eqs 2-92 to 2-94.
+Komar, P.D. & Gaudiano, M.K. (1975) Proc. 14th ICCE (from memory; breaker height Hb = 0.39 g^(1/5) (T H0²)^(2/5)).
+Goda, Y. (1970) A synthesis of breaker indices. Trans. JSCE 2, 227-230.
+Battjes, J.A. (1974) Surf similarity. Proc. 14th ICCE, 466-480.
+Battjes, J.A. & Janssen, J.P.F.M. (1978) Energy loss and set-up due to breaking of random waves.
+    Proc. 16th ICCE, 569-587.
+Battjes, J.A. & Stive, M.J.F. (1985) Calibration and verification of a dissipation model for
+    random breaking waves. J. Geophys. Res. 90(C5), 9159-9167.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from models.constants import DEG, RHO_SEAWATER, TWO_PI, G
+from models.errors import ConvergenceError, InvalidInput
+from models.waves import deep_wavelength, group_velocity, phase_speed, shoaling_coefficient, wavenumber
+
+__all__ = [
+    "BreakingResult",
+    "battjes_janssen_fraction",
+    "battjes_stive_gamma",
+    "breaker_type",
+    "breaking_crest_speed",
+    "goda_breaker_height",
+    "iribarren",
+    "komar_gaudiano",
+    "mccowan",
+    "miche_limit",
+    "shoal_to_breaking",
+    "wave_power",
+    "weggel_breaker_depth",
+    "weggel_breaker_height",
+    "weggel_coefficients",
+]
+
+MCCOWAN_INDEX = 0.78
+_MAX_SLOPE = 0.5  # accepted; Weggel's fit was made for m <= 0.1 (SPM 1984)
+
+
+def _arr(value: ArrayLike, name: str, unit: str, *, allow_zero: bool = False) -> NDArray[np.float64]:
+    a = np.asarray(value, dtype=float)
+    ok = np.isfinite(a) & ((a >= 0) if allow_zero else (a > 0))
+    if not ok.all():
+        bad = a[~ok].ravel()[0]
+        sign = "non-negative" if allow_zero else "positive"
+        raise InvalidInput(f"`{name}` must be {sign} and finite [{unit}], got {bad!r}")
+    return a
+
+
+def _slope(slope: ArrayLike) -> NDArray[np.float64]:
+    m = _arr(slope, "slope", "tan β")
+    if np.any(m > _MAX_SLOPE):
+        raise InvalidInput(f"`slope` must be <= {_MAX_SLOPE} (tan β), got {m.max()!r}")
+    return m
+
+
+# --------------------------------------------------------------------------- breaker indices
+
+
+def mccowan(depth: ArrayLike, *, index: float = MCCOWAN_INDEX) -> NDArray[np.float64]:
+    """Breaker height Hb = 0.78 h [m] (McCowan 1894 solitary-wave limit)."""
+    return index * _arr(depth, "depth", "m")
+
+
+def miche_limit(period: ArrayLike, depth: ArrayLike, *, g: float = G) -> NDArray[np.float64]:
+    """Limiting height Hmax = 0.142 L tanh(kh) [m] (Miche 1944); ≈ L0/7 in deep water."""
+    T = _arr(period, "period", "s")
+    h = np.asarray(depth, dtype=float)
+    k = wavenumber(1.0 / T, h, g=g)
+    return 0.142 * TWO_PI / k * np.tanh(np.minimum(k * h, 350.0))
+
+
+def weggel_coefficients(slope: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Weggel (1972) a = 43.8(1 - e^(-19 m)), b = 1.56/(1 + e^(-19.5 m)) (SPM 1984 eqs 2-93, 2-94)."""
+    m = np.asarray(slope, dtype=float)
+    if not (np.isfinite(m).all() and np.all(m >= 0) and np.all(m <= _MAX_SLOPE)):
+        raise InvalidInput(f"`slope` must be in [0, {_MAX_SLOPE}] (tan β), got {slope!r}")
+    return 43.8 * (1.0 - np.exp(-19.0 * m)), 1.56 / (1.0 + np.exp(-19.5 * m))
+
+
+def weggel_breaker_depth(hb: ArrayLike, period: ArrayLike, slope: ArrayLike, *, g: float = G) -> NDArray[np.float64]:
+    """Breaking depth db [m] for breaker height hb: db = hb / (b - a hb/(g T²)) (SPM 1984 eq. 2-92)."""
+    H = _arr(hb, "hb", "m")
+    T = _arr(period, "period", "s")
+    a, b = weggel_coefficients(_slope(slope))
+    gamma = b - a * H / (g * T**2)
+    if np.any(gamma <= 0):
+        raise InvalidInput("`hb` too steep for Weggel's index (b - a Hb/(gT²) <= 0)")
+    return H / gamma
+
+
+def weggel_breaker_height(db: ArrayLike, period: ArrayLike, slope: ArrayLike, *, g: float = G) -> NDArray[np.float64]:
+    """Breaker height Hb [m] at depth db: Hb = b db / (1 + a db/(g T²)), the exact inverse of
+    `weggel_breaker_depth`."""
+    d = _arr(db, "db", "m")
+    T = _arr(period, "period", "s")
+    a, b = weggel_coefficients(_slope(slope))
+    return b * d / (1.0 + a * d / (g * T**2))
+
+
+def komar_gaudiano(h0: ArrayLike, period: ArrayLike, *, g: float = G) -> NDArray[np.float64]:
+    """Breaker height Hb = 0.39 g^(1/5) (T H0²)^(2/5) [m] (Komar & Gaudiano 1975), H0 the
+    (unrefracted equivalent) deep-water height."""
+    H0 = _arr(h0, "h0", "m")
+    T = _arr(period, "period", "s")
+    return 0.39 * g**0.2 * (T * H0**2) ** 0.4
+
+
+def goda_breaker_height(
+    depth: ArrayLike, period: ArrayLike, slope: ArrayLike, *, A: float = 0.17, g: float = G
+) -> NDArray[np.float64]:
+    """Goda (1970) breaker index Hb = A L0 {1 - exp[-1.5 π (h/L0)(1 + 15 m^(4/3))]} [m].
+
+    A = 0.17 for regular waves (about 0.12 for the significant wave of random seas, from memory).
+    """
+    h = _arr(depth, "depth", "m")
+    m = _slope(slope)
+    if not (np.isfinite(A) and A > 0):
+        raise InvalidInput(f"`A` must be positive, got {A!r}")
+    L0 = deep_wavelength(_arr(period, "period", "s"), g=g)
+    return A * L0 * -np.expm1(-1.5 * np.pi * (h / L0) * (1.0 + 15.0 * m ** (4.0 / 3.0)))
+
+
+def battjes_janssen_fraction(hrms: ArrayLike, hmax: ArrayLike) -> NDArray[np.float64]:
+    """Fraction of breaking waves Qb from (1 - Qb)/ln Qb = -(Hrms/Hm)² (Battjes & Janssen 1978).
+
+    Qb = 0 for Hrms = 0 and 1 for Hrms >= Hm. Solved in u = ln Qb by Newton: G(u) = 1 - e^u + b² u
+    is concave, so from the start u = -1/b² (G < 0) the iterates rise monotonically to the root.
+    """
+    hr = _arr(hrms, "hrms", "m", allow_zero=True)
+    hm = _arr(hmax, "hmax", "m")
+    b2 = np.asarray((hr / hm) ** 2, dtype=float)
+    out = np.where(b2 >= 1.0, 1.0, 0.0)
+    mid = (b2 > 0) & (b2 < 1.0)
+    if np.any(mid):
+        c = b2[mid]
+        u = -1.0 / c
+        for _ in range(100):
+            eu = np.exp(u)
+            step = (1.0 - eu + c * u) / (c - eu)
+            u = u - step
+            if np.all(np.abs(step) <= 1e-13 * np.maximum(1.0, np.abs(u))):
+                break
+        else:
+            raise ConvergenceError("battjes_janssen_fraction: Newton did not converge")
+        out[mid] = np.exp(u)
+    return out if out.ndim else out[()]
+
+
+def battjes_stive_gamma(s0: ArrayLike) -> NDArray[np.float64]:
+    """Breaker parameter γ = 0.5 + 0.4 tanh(33 s0), s0 = H0,rms/L0 (Battjes & Stive 1985)."""
+    return 0.5 + 0.4 * np.tanh(33.0 * _arr(s0, "s0", "-", allow_zero=True))
+
+
+# --------------------------------------------------------------------------- surf similarity
+
+
+def iribarren(slope: ArrayLike, height: ArrayLike, period: ArrayLike, *, g: float = G) -> NDArray[np.float64]:
+    """Surf-similarity (Iribarren) number ξ = tan β / √(H/L0) (Battjes 1974)."""
+    m = _arr(slope, "slope", "tan β")
+    H = _arr(height, "height", "m")
+    return m / np.sqrt(H / deep_wavelength(_arr(period, "period", "s"), g=g))
+
+
+_THRESHOLDS = {"breaking": (0.4, 2.0), "offshore": (0.5, 3.3)}
+
+
+def breaker_type(xi: ArrayLike, *, at: str = "breaking") -> NDArray[np.str_]:
+    """Breaker type from the Iribarren number (Battjes 1974): "spilling", "plunging" or
+    "collapsing" (collapsing or surging).
+
+    ``at="breaking"`` for ξb (H = Hb): spilling < 0.4 <= plunging < 2.0 <= collapsing;
+    ``at="offshore"`` for ξ0 (H = H0): thresholds 0.5 and 3.3.
+    Returns an array of strings (0-d for scalar input; ``str()`` it).
+    """
+    if at not in _THRESHOLDS:
+        raise InvalidInput(f"`at` must be 'breaking' or 'offshore', got {at!r}")
+    x = _arr(xi, "xi", "-")
+    lo, hi = _THRESHOLDS[at]
+    return np.where(x < lo, "spilling", np.where(x < hi, "plunging", "collapsing"))
+
+
+# --------------------------------------------------------------------------- energy flux
+
+
+def wave_power(
+    height: ArrayLike,
+    period: ArrayLike,
+    *,
+    depth: ArrayLike = np.inf,
+    kind: str = "regular",
+    rho: float = RHO_SEAWATER,
+    g: float = G,
+) -> NDArray[np.float64]:
+    """Energy flux per metre of crest P = E Cg [W/m].
+
+    ``kind="regular"``: height H of a regular wave, E = ρ g H²/8, Cg at 1/period.
+    ``kind="spectral"``: height Hm0 and period Te (energy period), E = ρ g Hm0²/16; in deep water
+    P = ρ g² Hm0² Te / (64 π).
+    """
+    if kind == "regular":
+        factor = 1.0 / 8.0
+    elif kind == "spectral":
+        factor = 1.0 / 16.0
+    else:
+        raise InvalidInput(f"`kind` must be 'regular' or 'spectral', got {kind!r}")
+    H = _arr(height, "height", "m", allow_zero=True)
+    T = _arr(period, "period", "s")
+    return factor * rho * g * H**2 * group_velocity(1.0 / T, depth, g=g)
+
+
+def breaking_crest_speed(depth: ArrayLike, *, period: ArrayLike | None = None, g: float = G) -> NDArray[np.float64]:
+    """Crest speed at breaking Cb [m/s]: √(g hb) (shallow-water form, the usual choice for peel
+    rates), or the linear phase speed at hb when `period` is given."""
+    h = _arr(depth, "depth", "m")
+    if period is None:
+        return np.sqrt(g * h)
+    return phase_speed(1.0 / _arr(period, "period", "s"), h, g=g)
+
+
+# --------------------------------------------------------------------------- march to breaking
+
+
+class BreakingResult(NamedTuple):
+    """Break point of a wave shoaled and refracted over straight parallel contours.
+
+    height, depth, angle_deg: breaker height Hb [m], breaking depth db [m], angle of the ray to
+    the contour normal at breaking [deg] (sign as given); iribarren: ξb = m/√(Hb/L0);
+    breaker_type: from ξb (`breaker_type(..., at="breaking")`); deep_water_height: unrefracted
+    deep-water equivalent H0' = Hb/Ks(db) [m]; komar_gaudiano_height: Komar & Gaudiano (1975)
+    Hb from H0' [m] for comparison; broke_at_start: True where the wave already breaks at the
+    start depth (then depth is the start depth and height the given height).
+    """
+
+    height: NDArray[np.float64]
+    depth: NDArray[np.float64]
+    angle_deg: NDArray[np.float64]
+    iribarren: NDArray[np.float64]
+    breaker_type: NDArray[np.str_]
+    deep_water_height: NDArray[np.float64]
+    komar_gaudiano_height: NDArray[np.float64]
+    broke_at_start: NDArray[np.bool_]
+
+
+_SCAN = 240  # log-spaced depths between the start depth and 1e-4 of it, to bracket the first crossing
+_BISECT = 60
+
+
+def _local_height(H1, f, s1, cg1, cos1, h, g):  # type: ignore[no-untyped-def]
+    """Height and angle at depth h from Snell (sin θ / C const) and energy flux (Ks Kr)."""
+    c = phase_speed(f, h, g=g)
+    sin = np.clip(s1 * c, -1.0, 1.0)
+    cos = np.sqrt(1.0 - sin * sin)
+    H = H1 * np.sqrt(cg1 / group_velocity(f, h, g=g)) * np.sqrt(cos1 / cos)
+    return H, sin
+
+
+def shoal_to_breaking(
+    height: ArrayLike, period: ArrayLike, angle_deg: ArrayLike, depth: ArrayLike, *, slope: ArrayLike, g: float = G
+) -> BreakingResult:
+    """March a regular wave shoreward from `depth` to its break point.
+
+    `height` [m] and `angle_deg` (ray to the contour normal, |θ| < 90°) are given AT `depth` [m];
+    the contours are straight and parallel and the bed slope is `slope` (tan β, for Weggel's
+    index). Shoreward of the start, H(h) = H1 √(Cg1/Cg(h)) √(cos θ1/cos θ(h)) with
+    sin θ/C constant (Snell), and the wave breaks at the largest depth where H(h) reaches
+    Weggel's breaker height b h/(1 + a h/(gT²)). Vectorised over broadcast inputs.
+
+    Examples
+    --------
+    >>> r = shoal_to_breaking(1.0, 10.0, 0.0, 20.0, slope=0.02)
+    >>> round(float(r.height), 2), round(float(r.depth), 2), str(r.breaker_type)
+    (1.54, 1.69, 'spilling')
+    """
+    H1 = _arr(height, "height", "m")
+    T = _arr(period, "period", "s")
+    th = np.asarray(angle_deg, dtype=float)
+    if not (np.isfinite(th).all() and np.all(np.abs(th) < 90.0)):
+        raise InvalidInput(f"`angle_deg` must be finite with |angle| < 90 (to the contour normal), got {angle_deg!r}")
+    h1 = _arr(depth, "depth", "m")
+    if not np.isfinite(h1).all():
+        raise InvalidInput("`depth` must be finite (a start depth on the contours)")
+    m = _slope(slope)
+    H1, T, th, h1, m = np.broadcast_arrays(H1, T, th, h1, m)
+    shape = H1.shape
+    H1, T, th, h1, m = (np.ravel(a).astype(float) for a in (H1, T, th, h1, m))
+    f = 1.0 / T
+    a, b = weggel_coefficients(m)
+    gT2 = g * T**2
+
+    def excess(h):  # type: ignore[no-untyped-def]  # > 0 where the wave is breaking at depth h
+        Hh, _ = _local_height(H1[:, None] if h.ndim == 2 else H1, *args(h), h, g)
+        aa, bb, gg = (v[:, None] if h.ndim == 2 else v for v in (a, b, gT2))
+        return Hh - bb * h / (1.0 + aa * h / gg)
+
+    s1 = np.sin(th * DEG) / phase_speed(f, h1, g=g)
+    cg1 = group_velocity(f, h1, g=g)
+    cos1 = np.cos(th * DEG)
+
+    def args(h):  # type: ignore[no-untyped-def]
+        if h.ndim == 2:
+            return f[:, None], s1[:, None], cg1[:, None], cos1[:, None]
+        return f, s1, cg1, cos1
+
+    at_start = excess(h1) >= 0
+    # scan shoreward for the first depth where the excess turns positive, then bisect
+    frac = np.geomspace(1.0, 1e-4, _SCAN)
+    hs = h1[:, None] * frac[None, :]
+    ex = excess(hs)
+    pos = ex >= 0
+    if not np.all(pos[:, -1] | at_start):
+        raise ConvergenceError("shoal_to_breaking: no break point found above 1e-4 of the start depth")
+    j = np.argmax(pos, axis=1)  # first breaking scan depth
+    j = np.maximum(j, 1)
+    rows = np.arange(h1.size)
+    hi = hs[rows, j - 1]  # not breaking
+    lo = hs[rows, j]  # breaking
+    for _ in range(_BISECT):
+        mid = 0.5 * (hi + lo)
+        brk = excess(mid) >= 0
+        lo = np.where(brk, mid, lo)
+        hi = np.where(brk, hi, mid)
+    db = np.where(at_start, h1, lo)
+    Hb, sinb = _local_height(H1, f, s1, cg1, cos1, db, g)
+    Hb = np.where(at_start, H1, Hb)
+    angle_b = np.where(at_start, th, np.rad2deg(np.arcsin(sinb)))
+    xi = iribarren(m, Hb, T, g=g)
+    h0p = Hb / shoaling_coefficient(f, db, g=g)
+    r = BreakingResult(
+        height=Hb,
+        depth=db,
+        angle_deg=angle_b,
+        iribarren=xi,
+        breaker_type=breaker_type(xi, at="breaking"),
+        deep_water_height=h0p,
+        komar_gaudiano_height=komar_gaudiano(h0p, T, g=g),
+        broke_at_start=at_start,
+    )
+    return BreakingResult(*(np.reshape(v, shape) for v in r))
