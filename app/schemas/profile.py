@@ -111,7 +111,7 @@ def describe_validation_error(exc: ValidationError, *, where: str) -> str:
     lines = []
     for err in exc.errors():
         loc = ".".join(str(p) for p in err["loc"]) or "(profile)"
-        msg = err["msg"]
+        msg = err["msg"].removeprefix("Value error, ")
         if err["type"] == "extra_forbidden":
             msg = "unknown field (check the spelling)"
         elif err["type"] == "missing":

@@ -132,7 +132,7 @@ def _locate_points(profile: SpotProfile, grid: DepthGrid, *, where: str) -> list
         field = f"break_points.{n}"
         if bp.x is not None and bp.y is not None:
             x, y = bp.x, bp.y
-            lat, lon = (float(v) for v in to_lonlat(x, y, origin.latitude, origin.longitude))
+            lon, lat = (float(v) for v in to_lonlat(x, y, origin.latitude, origin.longitude))
         else:
             assert bp.latitude is not None and bp.longitude is not None
             lat, lon = bp.latitude, bp.longitude
