@@ -35,7 +35,7 @@ def clean_records(n):
     return out
 
 
-def damage(line, kind, pos, rng):
+def damage(line, kind, pos):
     head, rest = line[:17], line[17:]
     if kind == "truncate":
         return [line[: max(1, min(pos, len(line) - 1))]]
@@ -78,19 +78,21 @@ def damaged_sets(draw):
     damaged_times = set()
     ops = draw(st.lists(st.tuples(st.sampled_from(SUFFIXES), st.integers(1, n), st.sampled_from(DAMAGES),
                                   st.integers(0, 400)), min_size=1, max_size=n - 1))
-    rng = np.random.default_rng(0)
     for suffix, row, kind, pos in ops:
         lines = files[suffix]
         if row >= len(lines) or lines[row] == "":
             continue
         line = lines[row]
-        t = datetime.strptime(line[:16], "%Y %m %d %H %M").replace(tzinfo=UTC)
+        try:
+            t = datetime.strptime(line[:16], "%Y %m %d %H %M").replace(tzinfo=UTC)
+        except ValueError:
+            continue  # this line was already cut short by an earlier op
         if kind == "move":
             lines.insert(len(lines), lines.pop(row))
             continue
         if kind not in ("duplicate",):
             damaged_times.add(t)
-        lines[row: row + 1] = damage(line, kind, pos, rng)
+        lines[row: row + 1] = damage(line, kind, pos)
     return recs, {f"s9.{k}": "\n".join(v) + "\n" for k, v in files.items()}, damaged_times
 
 
