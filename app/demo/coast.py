@@ -1,0 +1,445 @@
+"""The fictional demo coast: four invented spots, their bathymetry files and their profiles.
+
+Everything here is invented. The "Skellmarrow coast" and its place names do not exist; the
+position is nominal, in the open South Pacific far from any land (about 41.7° S, 127.3° W, where
+the real ocean is some 4 km deep), chosen only so that latitude/longitude conversions have
+something to work on.
+
+Each spot has its own grid in local metres (x east, y north) about the spot's nominal position,
+depth positive down and land <= 0, built from analytic shapes:
+
+* a **shelf** (a plain 1:55 slope for the beach) whose depth is a function of the distance to the shoreline (slope ``1:45`` at the
+  shore, levelling off toward ``110 m``), so contours follow the coast round headlands and islands;
+* the spot's **feature** (headland, ridge, island, plain beach);
+* gentle **smooth noise** (a sum of long plane waves with phases from a fixed seed, a few per cent
+  of the depth, none in the surf zone), so the grids look like survey data but stay deterministic.
+
+The coast faces west (seaward normal 270°); the deep (~80-100 m) open-ocean edges are west, north
+and south. Files are written the way a user would have them: ESRI ASCII depth grids in local metres
+for three spots and a GEBCO-style NetCDF (``elevation``, negative below sea level, on a regular
+lat/lon grid) for the ridge.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+import os
+import tempfile
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+from scipy import ndimage
+from scipy.interpolate import RegularGridInterpolator
+
+from models.geodesy import to_local, to_lonlat
+
+__all__ = [
+    "COAST_NAME",
+    "DEMO_SOURCE_IDS",
+    "SPOTS",
+    "DemoSpot",
+    "LocalGrid",
+    "spot_depth_function",
+    "spot_grid",
+    "write_coast",
+]
+
+COAST_NAME = "Skellmarrow coast (fictional)"
+DEMO_SOURCE_IDS = ("demo-offshore-1", "demo-model-1")
+
+SEED = 20261201  # fixed: the demo coast is the same on every machine
+FINE_M = 10.0  # resolution of the signed-distance field behind every shape [m]
+SHORE_SLOPE = 1.0 / 45.0  # seabed slope at the waterline (common practice for a sandy shelf: 1:30-1:60)
+SHELF_DEPTH_M = 110.0  # depth the shelf levels off toward
+LAND_SLOPE = 1.0 / 20.0
+LAND_MIN_M = -25.0  # highest land [m above datum], clipped so grids stay small numbers
+BEACH_SLOPE = 1.0 / 55.0  # the exposed beach: one plain slope out to ~95 m at the grid's west edge
+BREAK_DEPTH_M = 2.5  # break points sit on this contour
+
+
+@dataclass(frozen=True)
+class LocalGrid:
+    """Cell-centred grid in local metres: depth[j, i] at x[i], y[j], row 0 = south."""
+
+    x: np.ndarray
+    y: np.ndarray
+    depth: np.ndarray
+
+    @property
+    def spacing(self) -> float:
+        return float(self.x[1] - self.x[0])
+
+
+@dataclass(frozen=True)
+class DemoSpot:
+    """One invented spot: what kind it is, where, its grid and how its file is written."""
+
+    id: str
+    name: str
+    kind: str  # point | ridge | bay | beach
+    latitude: float
+    longitude: float
+    faces_deg: float
+    description: str
+    file_format: str  # esri-ascii | netcdf
+    x_range: tuple[float, float]  # grid extent (cell centres) [m]
+    y_range: tuple[float, float]
+    spacing_m: float
+    # break points: (name, seaward start (x, y), landward end (x, y)); each point is placed where the
+    # line from start to end first reaches BREAK_DEPTH_M
+    break_lines: tuple[tuple[str, tuple[float, float], tuple[float, float]], ...]
+    reference_depth_m: float = 10.0
+
+    @property
+    def file_name(self) -> str:
+        return f"{self.id}.asc" if self.file_format == "esri-ascii" else f"{self.id}.nc"
+
+
+_LON = -127.30
+SPOTS: tuple[DemoSpot, ...] = (
+    DemoSpot(
+        id="vorrel-point",
+        name="Vorrel Point",
+        kind="point",
+        latitude=-41.620,
+        longitude=_LON,
+        faces_deg=330.0,
+        description="Headland point: west swell wraps round the tip and peels east along its north flank.",
+        file_format="esri-ascii",
+        x_range=(-5000.0, 2000.0),
+        y_range=(-3000.0, 2400.0),
+        spacing_m=40.0,
+        break_lines=(
+            ("tip", (-900.0, 600.0), (-900.0, -1500.0)),
+            ("middle", (-300.0, 800.0), (-300.0, -1500.0)),
+            ("inside", (300.0, 1000.0), (300.0, -1500.0)),
+        ),
+    ),
+    DemoSpot(
+        id="quenning-ridge",
+        name="Quenning Ridge",
+        kind="ridge",
+        latitude=-41.700,
+        longitude=_LON,
+        faces_deg=270.0,
+        description="A submarine ridge runs out to sea and focuses long-period swell into a peak that peels both ways.",
+        file_format="netcdf",
+        x_range=(-4500.0, 1500.0),
+        y_range=(-3000.0, 3000.0),
+        spacing_m=40.0,
+        break_lines=(
+            ("south shoulder", (-1500.0, -260.0), (1500.0, -260.0)),
+            ("peak", (-1500.0, 0.0), (1500.0, 0.0)),
+            ("north shoulder", (-1500.0, 260.0), (1500.0, 260.0)),
+        ),
+    ),
+    DemoSpot(
+        id="brinlow-bay",
+        name="Brinlow Bay",
+        kind="bay",
+        latitude=-41.780,
+        longitude=_LON,
+        faces_deg=290.0,
+        description="A bay behind Tavish Isle: sheltered from west and south-west swell, open to the north-west.",
+        file_format="esri-ascii",
+        x_range=(-5300.0, 2300.0),
+        y_range=(-3500.0, 3000.0),
+        spacing_m=40.0,
+        break_lines=(
+            ("south corner", (800.0, -300.0), (2300.0, -300.0)),
+            ("bay centre", (800.0, 200.0), (2300.0, 200.0)),
+        ),
+    ),
+    DemoSpot(
+        id="dunmere-strand",
+        name="Dunmere Strand",
+        kind="beach",
+        latitude=-41.860,
+        longitude=_LON,
+        faces_deg=270.0,
+        description="A long straight beach on a plain slope: swell square to the beach closes out.",
+        file_format="esri-ascii",
+        x_range=(-4500.0, 1500.0),
+        y_range=(-3000.0, 3000.0),
+        spacing_m=40.0,
+        break_lines=(
+            ("south", (-1000.0, -400.0), (1500.0, -400.0)),
+            ("centre", (-1000.0, 0.0), (1500.0, 0.0)),
+            ("north", (-1000.0, 400.0), (1500.0, 400.0)),
+        ),
+    ),
+)
+
+
+# ---------------------------------------------------------------- shapes (land masks in local metres)
+
+def _gauss(u):
+    return np.exp(-(u**2))
+
+
+def _land_point(x, y):
+    """Mainland east of x = 1400 m, with a headland reaching west to x ~ -1700 m around y = -1000 m."""
+    shore = 1400.0 - 3100.0 * _gauss((y + 1000.0) / 750.0)
+    return x >= shore
+
+
+def _land_ridge(x, y):
+    return x >= 900.0 + 40.0 * np.sin(y / 900.0)
+
+
+def _land_bay(x, y):
+    """Mainland with a bay (shore pushed east round y = 0), a south arm and an offshore island."""
+    shore = 2000.0 - 500.0 * _gauss(y / 1600.0)
+    mainland = x >= shore
+    # south arm: a low spit running west from the mainland along y ~ -1900 m
+    arm = (np.abs(y + 1900.0) <= 260.0 * (1.0 - 0.5 * _gauss((x + 700.0) / 300.0))) & (x >= -700.0)
+    # the island (Tavish Isle), elongated north-south, west of the bay
+    island = ((x + 1300.0) / 520.0) ** 2 + ((y + 350.0) / 1300.0) ** 2 <= 1.0
+    return mainland | arm | island
+
+
+def _land_beach(x, y):
+    return x >= 800.0
+
+
+_LAND: dict[str, Callable] = {"point": _land_point, "ridge": _land_ridge, "bay": _land_bay, "beach": _land_beach}
+
+
+def _shelf(signed_distance):
+    """Depth [m] from signed distance to the shore [m] (positive at sea): slope SHORE_SLOPE at the
+    waterline, levelling off toward SHELF_DEPTH_M; land rises at LAND_SLOPE up to -LAND_MIN_M."""
+    d = np.asarray(signed_distance, dtype=float)
+    sea = SHELF_DEPTH_M * np.tanh(SHORE_SLOPE * np.maximum(d, 0.0) / SHELF_DEPTH_M)
+    land = np.maximum(LAND_SLOPE * np.minimum(d, 0.0), LAND_MIN_M)
+    return np.where(d >= 0.0, sea, land)
+
+
+def _noise_field(seed: int, n_waves: int = 14):
+    """Smooth noise: a sum of plane waves (wavelengths 500-2000 m), unit rms, as a function of (x, y)."""
+    rng = np.random.default_rng(seed)
+    k = 2.0 * np.pi / rng.uniform(500.0, 2000.0, n_waves)
+    ang = rng.uniform(0.0, 2.0 * np.pi, n_waves)
+    phase = rng.uniform(0.0, 2.0 * np.pi, n_waves)
+    kx, ky = k * np.cos(ang), k * np.sin(ang)
+    scale = math.sqrt(2.0 / n_waves)
+
+    def noise(x, y):
+        x = np.asarray(x, dtype=float)[..., None]
+        y = np.asarray(y, dtype=float)[..., None]
+        return scale * np.sin(kx * x + ky * y + phase).sum(axis=-1)
+
+    return noise
+
+
+def _smoothstep(v, lo, hi):
+    t = np.clip((np.asarray(v, dtype=float) - lo) / (hi - lo), 0.0, 1.0)
+    return t * t * (3.0 - 2.0 * t)
+
+
+@functools.lru_cache(maxsize=8)  # pure in `spot`; the signed-distance field is the costly part
+def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np.ndarray]:
+    """Depth [m, positive down] of `spot` as a function of local (x, y) [m], vectorised.
+
+    The shoreline comes from a signed-distance field on a FINE_M grid (slightly smoothed, so
+    contours are rounded rather than jagged); feature and noise terms are analytic.
+    """
+    pad = 600.0
+    fx = np.arange(spot.x_range[0] - pad, spot.x_range[1] + pad + FINE_M / 2, FINE_M)
+    fy = np.arange(spot.y_range[0] - pad, spot.y_range[1] + pad + FINE_M / 2, FINE_M)
+    gx, gy = np.meshgrid(fx, fy)
+    land = _LAND[spot.kind](gx, gy)
+    sd = FINE_M * (ndimage.distance_transform_edt(~land) - ndimage.distance_transform_edt(land))
+    sd = ndimage.gaussian_filter(sd, sigma=60.0 / FINE_M, mode="nearest")
+    sd_at = RegularGridInterpolator((fy, fx), sd, bounds_error=False, fill_value=None)
+    noise = _noise_field(SEED + sum(map(ord, spot.id)))
+
+    def depth(x, y):
+        x, y = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
+        sd_xy = sd_at(np.stack([y.ravel(), x.ravel()], axis=-1)).reshape(x.shape)
+        if spot.kind == "beach":
+            # a plain planar slope (contours straight and parallel), varying only gently alongshore:
+            # depth rises monotonically offshore everywhere
+            planar = BEACH_SLOPE * sd_xy * (1.0 + 0.005 * noise(np.zeros_like(y), y))
+            return np.where(sd_xy >= 0.0, planar, _shelf(sd_xy))
+        h = _shelf(sd_xy)
+        if spot.kind == "ridge":
+            # crest along y = 0 running out to sea: shallower than its flanks by up to ~45 %, and
+            # reaching the beach as a shoal, so the nearshore contours bulge seaward at the peak
+            h = h * (1.0 - 0.45 * _gauss(y / 380.0))
+        elif spot.kind == "point":
+            # a submerged spur continuing the headland out to sea (points usually have one)
+            spur = _smoothstep(-x, 1500.0, 2200.0) * (1.0 - _smoothstep(-x, 3200.0, 4600.0))
+            h = h * (1.0 - 0.25 * _gauss((y + 1000.0) / 500.0) * spur)
+        # noise: 3 % of the depth, none in the surf zone (< 6 m) so break points stay where placed
+        amp = 0.03 * h * _smoothstep(h, 6.0, 15.0)
+        return np.where(h > 0.0, h + amp * noise(x, y), h)
+
+    return depth
+
+
+def spot_grid(spot: DemoSpot, *, spacing_m: float | None = None) -> LocalGrid:
+    """The spot's depth on its local cell-centred grid."""
+    step = spot.spacing_m if spacing_m is None else spacing_m
+    x = np.arange(spot.x_range[0], spot.x_range[1] + step / 2, step)
+    y = np.arange(spot.y_range[0], spot.y_range[1] + step / 2, step)
+    gx, gy = np.meshgrid(x, y)
+    return LocalGrid(x=x, y=y, depth=spot_depth_function(spot)(gx, gy))
+
+
+def break_points(spot: DemoSpot, depth_fn=None) -> list[tuple[str, float, float]]:
+    """(name, x, y) of each break point: where its line first reaches BREAK_DEPTH_M, rounded to 1 m."""
+    depth_fn = depth_fn or spot_depth_function(spot)
+    out = []
+    for name, (xs, ys), (xe, ye) in spot.break_lines:
+        t = np.linspace(0.0, 1.0, 4001)
+        px, py = xs + t * (xe - xs), ys + t * (ye - ys)
+        h = depth_fn(px, py)
+        if h[0] <= BREAK_DEPTH_M:
+            raise RuntimeError(f"demo spot {spot.id}: break line {name!r} starts too shallow ({h[0]:.1f} m)")
+        idx = np.flatnonzero(h <= BREAK_DEPTH_M)
+        if idx.size == 0:
+            raise RuntimeError(f"demo spot {spot.id}: break line {name!r} never reaches {BREAK_DEPTH_M} m")
+        i = idx[0]
+        # linear interpolation between the last sample deeper and the first shallower
+        w = (h[i - 1] - BREAK_DEPTH_M) / (h[i - 1] - h[i])
+        out.append((name, round(float(px[i - 1] + w * (px[i] - px[i - 1]))), round(float(py[i - 1] + w * (py[i] - py[i - 1])))))
+    return out
+
+
+# ---------------------------------------------------------------- writers
+
+def _esri_ascii(grid: LocalGrid) -> str:
+    """ESRI ASCII raster (first data row = north), corner-registered header, depth in metres."""
+    ny, nx = grid.depth.shape
+    cs = grid.spacing
+    lines = [
+        f"ncols {nx}",
+        f"nrows {ny}",
+        f"xllcorner {grid.x[0] - cs / 2:.1f}",
+        f"yllcorner {grid.y[0] - cs / 2:.1f}",
+        f"cellsize {cs:.1f}",
+        "nodata_value -9999",
+    ]
+    for row in grid.depth[::-1]:
+        lines.append(" ".join(f"{v:.2f}" for v in row))
+    return "\n".join(lines) + "\n"
+
+
+def _lonlat_axes(spot: DemoSpot):
+    """Regular 1-D lat/lon cell centres covering the spot's local extent at about its spacing."""
+    (x0, x1), (y0, y1) = spot.x_range, spot.y_range
+    lon_c, lat_c = to_lonlat(np.array([x0, x1, 0.0, 0.0]), np.array([0.0, 0.0, y0, y1]), spot.latitude, spot.longitude)
+    dlat = spot.spacing_m / 111_000.0
+    dlon = dlat / math.cos(math.radians(spot.latitude))
+    # round the steps so the file has tidy values a survey export would have
+    dlat, dlon = round(dlat, 6), round(dlon, 6)
+    nlat = int(math.floor((lat_c[3] - lat_c[2]) / dlat)) + 1
+    nlon = int(math.floor((lon_c[1] - lon_c[0]) / dlon)) + 1
+    lat = round(float(lat_c[2]), 6) + dlat * np.arange(nlat)
+    lon = round(float(lon_c[0]), 6) + dlon * np.arange(nlon)
+    return lat, lon
+
+
+def _write_gebco_style(path: Path, spot: DemoSpot) -> None:
+    """GEBCO-style NetCDF4: elevation(lat, lon) [m], negative below sea level, 1-D lat/lon centres."""
+    import h5netcdf
+
+    lat, lon = _lonlat_axes(spot)
+    glon, glat = np.meshgrid(lon, lat)
+    x, y = to_local(glat, glon, spot.latitude, spot.longitude)
+    elevation = (-spot_depth_function(spot)(x, y)).astype(np.float32)
+    with h5netcdf.File(path, "w", track_order=True) as f:
+        f.dimensions = {"lat": lat.size, "lon": lon.size}
+        v = f.create_variable("lat", ("lat",), "f8")
+        v[:] = lat
+        v.attrs.update({"standard_name": "latitude", "units": "degrees_north", "long_name": "latitude"})
+        v = f.create_variable("lon", ("lon",), "f8")
+        v[:] = lon
+        v.attrs.update({"standard_name": "longitude", "units": "degrees_east", "long_name": "longitude"})
+        v = f.create_variable("elevation", ("lat", "lon"), "f4")
+        v[:] = elevation
+        v.attrs.update({
+            "standard_name": "height_above_mean_sea_level",
+            "long_name": "Elevation relative to sea level",
+            "units": "m",
+            "positive": "up",
+        })
+        f.attrs.update({
+            "Conventions": "CF-1.11",
+            "title": f"{spot.name} demo bathymetry (fictional, synthetic)",
+            "source": "shoalcast app.demo.coast: analytic shapes + smooth noise; not a real place",
+        })
+
+
+def _replace_if_changed(path: Path, data: bytes) -> None:
+    """Write atomically and only when the bytes differ, so a second demo run keeps file hashes."""
+    if path.exists() and path.read_bytes() == data:
+        return
+    fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.")
+    with os.fdopen(fd, "wb") as fh:
+        fh.write(data)
+    os.chmod(tmp, 0o644)  # mkstemp makes 0600; these are ordinary data files
+    os.replace(tmp, path)
+
+
+def _toml_str(s: str) -> str:
+    return '"' + s.replace("\\", "\\\\").replace('"', '\\"') + '"'
+
+
+def _profile_toml(spot: DemoSpot, points, sources) -> str:
+    lines = [
+        f"# {spot.name}: {spot.description}",
+        f"# Part of the {COAST_NAME}: invented place, invented seabed, nominal position at sea.",
+        f"id = {_toml_str(spot.id)}",
+        f"name = {_toml_str(spot.name)}",
+        f"latitude = {spot.latitude:.6f}",
+        f"longitude = {spot.longitude:.6f}",
+        f"faces_deg = {spot.faces_deg:.1f}",
+        'timezone = "UTC"',
+        "sources = [" + ", ".join(_toml_str(s) for s in sources) + "]",
+        "",
+        "[bathymetry]",
+        f"file = {_toml_str(spot.file_name)}",
+    ]
+    if spot.file_format == "esri-ascii":
+        lines += ['format = "esri-ascii"', 'values = "depth"', 'crs = "local"']
+    else:
+        lines += ['format = "netcdf"', 'values = "elevation"', 'crs = "lonlat"', 'variable = "elevation"',
+                  f"spacing_m = {spot.spacing_m:.1f}"]
+    lines += [
+        f"origin = {{ latitude = {spot.latitude:.6f}, longitude = {spot.longitude:.6f} }}",
+        'datum = "MSL"',
+    ]
+    for name, x, y in points:
+        lines += ["", "[[break_points]]", f"name = {_toml_str(name)}", f"x = {x:.1f}", f"y = {y:.1f}"]
+    lines += ["", "[model]", f"reference_depth_m = {spot.reference_depth_m:.1f}", ""]
+    return "\n".join(lines)
+
+
+def write_coast(directory: str | os.PathLike, *, sources: tuple[str, ...] = DEMO_SOURCE_IDS) -> list[Path]:
+    """Write every demo spot's bathymetry file and profile TOML into `directory`.
+
+    Returns the profile paths in SPOTS order. Deterministic: the same bytes on every run (files
+    already holding those bytes are left untouched, keeping their modification times).
+    """
+    out_dir = Path(directory)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    profiles = []
+    for spot in SPOTS:
+        depth_fn = spot_depth_function(spot)
+        points = break_points(spot, depth_fn)
+        grid_path = out_dir / spot.file_name
+        if spot.file_format == "esri-ascii":
+            _replace_if_changed(grid_path, _esri_ascii(spot_grid(spot)).encode())
+        else:
+            with tempfile.TemporaryDirectory(dir=out_dir) as tmp:
+                tmp_path = Path(tmp) / spot.file_name
+                _write_gebco_style(tmp_path, spot)
+                _replace_if_changed(grid_path, tmp_path.read_bytes())
+        profile = out_dir / f"{spot.id}.toml"
+        _replace_if_changed(profile, _profile_toml(spot, points, sources).encode())
+        profiles.append(profile)
+    return profiles
