@@ -150,12 +150,14 @@ _ASC_KEYS = (
 _NUMBER = re.compile(r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$|^[+-]?(nan|inf(inity)?)$", re.IGNORECASE)
 
 
-def parse_esri_ascii(text: str, *, name: str = "<text>") -> GridData:
-    """Parse an ESRI ASCII raster (text) into a `GridData` (crs "local"; see module docstring).
+def parse_esri_ascii(text: str, *, name: str = "<text>", crs: Crs = "local") -> GridData:
+    """Parse an ESRI ASCII raster (text) into a `GridData` (see module docstring).
 
-    The coordinates are taken as given; a caller with a lon/lat raster replaces ``crs`` with
-    ``dataclasses.replace(grid, crs="lonlat")``.
+    The header does not record the CRS: ``crs`` says whether x/y are local metres ("local") or
+    longitude/latitude degrees ("lonlat"; a `.prj` sidecar is not read).
     """
+    if crs not in ("local", "lonlat"):
+        raise ValueError(f"`crs` must be 'local' or 'lonlat', got {crs!r}")
     lines = text.splitlines()
     header: dict[str, tuple[str, int]] = {}
     data_start: tuple[int, int] | None = None  # (line index, token index) of the first value
@@ -241,7 +243,7 @@ def parse_esri_ascii(text: str, *, name: str = "<text>") -> GridData:
         values = np.where(values == nodata, np.nan, values)
     x = origin[0] + dx * np.arange(ncols)
     y = origin[1] + dy * np.arange(nrows)
-    return GridData(values=values, x=x, y=y, crs="local", source=name)
+    return GridData(values=values, x=x, y=y, crs=crs, source=name)
 
 
 def _raise_bad_token(lines: list[str], li0: int, ti0: int, name: str) -> None:
@@ -263,9 +265,9 @@ def _last_nonblank(lines: list[str]) -> int:
     return 1
 
 
-def read_esri_ascii(path: str | Path) -> GridData:
+def read_esri_ascii(path: str | Path, *, crs: Crs = "local") -> GridData:
     """Read an ESRI ASCII raster file (see `parse_esri_ascii`)."""
-    return parse_esri_ascii(_read_text(path), name=str(path))
+    return parse_esri_ascii(_read_text(path), name=str(path), crs=crs)
 
 
 def format_esri_ascii(

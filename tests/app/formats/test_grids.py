@@ -82,7 +82,25 @@ def test_read_from_file(tmp_path):
     p = tmp_path / "reef.asc"
     p.write_text(ASC_CENTRE)
     g = read_esri_ascii(p)
-    assert g.source == str(p) and g.shape == (3, 4)
+    assert g.source == str(p) and g.shape == (3, 4) and g.crs == "local"
+    assert read_esri_ascii(p, crs="lonlat").crs == "lonlat"
+    with pytest.raises(GridError, match=r"missing\.asc: cannot open file"):
+        read_esri_ascii(tmp_path / "missing.asc")
+    (tmp_path / "bin.asc").write_bytes(b"\xff\xfe\x00\x81")
+    with pytest.raises(GridError, match=r"bin\.asc: not a UTF-8 text file"):
+        read_esri_ascii(tmp_path / "bin.asc")
+
+
+def test_lonlat_asc_projected_to_local_metres():
+    # 0.001 deg cells about (lat0, lon0) = (0.0045, 0.0045), elevation positive up.
+    text = "ncols 10\nnrows 10\nxllcorner 0\nyllcorner 0\ncellsize 0.001\n" + "\n".join(
+        " ".join(str(-10 - c) for c in range(10)) for _ in range(10)
+    )
+    d = to_depth_grid(parse_esri_ascii(text, crs="lonlat"), values="elevation", origin=(0.0045, 0.0045))
+    # 0.001 deg of longitude near the equator = 111.32 m (N cos φ Δλ, a = 6378137 m; WGS 84).
+    assert d.dx == pytest.approx(111.319, abs=1e-3)
+    assert d.depth_at(0.0, 0.0) == pytest.approx(14.0, abs=1e-6)  # origin = centre of column 4 (0.0005 + 4 * 0.001)
+    assert d.depth[:, -1].mean() > d.depth[:, 0].mean()  # deeper to the east
 
 
 @pytest.mark.parametrize(
