@@ -62,7 +62,7 @@ def parse_payload(fmt: str, files: Mapping[str, bytes], *, station: str | None =
     if fmt == "cf-netcdf":
         from app.formats.cf_spectra import parse_cf_spectra
 
-        return _merge([parse_cf_spectra(d, name=n, station=station) for n, d in files.items()])
+        return _merge([parse_cf_spectra(d, name=n) for n, d in files.items()])
     raise BadInput(f"unknown source format {fmt!r}", field="format")
 
 
