@@ -331,30 +331,34 @@ def direction_bin_widths(directions_deg: ArrayLike) -> NDArray[np.float64]:
     return out * DEG
 
 
-def _efth_iv(efth: ArrayLike, nd: int) -> NDArray[np.float64]:
+def _efth_iv(efth: ArrayLike, nd: int, *, allow_negative: bool = False) -> NDArray[np.float64]:
     e = np.asarray(efth, dtype=float)
     if e.ndim < 2 or e.shape[-1] != nd:
         raise InvalidInput(f"`efth` must have shape (..., nf, {nd}), got {e.shape}")
     if not np.isfinite(e).all():
         raise InvalidInput("`efth` must be finite")
-    if np.any(e < 0):
+    if not allow_negative and np.any(e < 0):
         raise InvalidInput(f"`efth` must be non-negative [m²/Hz/rad], got {e.min()!r}")
     return e
 
 
 def frequency_spectrum(efth: ArrayLike, directions_deg: ArrayLike) -> NDArray[np.float64]:
-    """E(f) = ∫ E(f, θ) dθ [m²/Hz] from efth (..., nf, nd) in m²/Hz/rad."""
+    """E(f) = ∫ E(f, θ) dθ [m²/Hz] from efth (..., nf, nd) in m²/Hz/rad.
+
+    Negative lobes (the truncated Fourier series) are integrated as they are.
+    """
     dth = direction_bin_widths(directions_deg)
-    return np.sum(_efth_iv(efth, dth.size) * dth, axis=-1)
+    return np.sum(_efth_iv(efth, dth.size, allow_negative=True) * dth, axis=-1)
 
 
 def coefficients_from_spectrum(efth: ArrayLike, directions_deg: ArrayLike) -> Coefficients:
     """a1, b1, a2, b2 per frequency (math TOWARD frame) of efth (..., nf, nd).
 
-    Frequencies with no energy get zeros (an isotropic distribution), not NaN.
+    Frequencies with no energy get zeros (an isotropic distribution), not NaN. Negative lobes
+    (the truncated Fourier series) are integrated as they are.
     """
     dth = direction_bin_widths(directions_deg)
-    e = _efth_iv(efth, dth.size) * dth
+    e = _efth_iv(efth, dth.size, allow_negative=True) * dth
     th = nautical_from_to_math(directions_deg)
     total = e.sum(axis=-1)
     safe = np.where(total > 0, total, 1.0)
@@ -472,7 +476,9 @@ def _mem(th: NDArray[np.float64], c: Coefficients) -> NDArray[np.float64]:
     c1 = c.a1 + 1j * c.b1
     c2 = c.a2 + 1j * c.b2
     r1 = np.abs(c1)
-    c1 = np.where(r1 > _R_MAX_MEM, c1 * (_R_MAX_MEM / np.where(r1 > 0, r1, 1.0)), c1)
+    scale = np.ones_like(r1)
+    np.divide(_R_MAX_MEM, r1, out=scale, where=r1 > _R_MAX_MEM)
+    c1 = c1 * scale
     phi1 = (c1 - c2 * np.conj(c1)) / (1.0 - np.abs(c1) ** 2)
     phi2 = c2 - c1 * phi1
     num = np.real(1.0 - phi1 * np.conj(c1) - phi2 * np.conj(c2))
@@ -499,7 +505,8 @@ def directional_spectrum_from_coefficients(
     Methods
     -------
     ``"fourier"``: NDBC truncated series D = (1/π)[½ + r1 cos(α - α1) + r2 cos 2(α - α2)]
-    (can be negative where the data are narrow; kept as published).
+    (can be negative where the data are narrow; kept as published, so E(f, θ) can be < 0:
+    use "weighted" or "mem" for anything that needs a density).
     ``"weighted"``: D = (1/π)[½ + (2/3) r1 cos(α - α1) + (1/6) r2 cos 2(α - α2)], clipped at 0
     (non-negative for consistent coefficients).
     ``"mem"``: maximum entropy method of Lygre & Krogstad (1986); it reproduces a1..b2 but can
