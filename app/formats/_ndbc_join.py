@@ -136,7 +136,8 @@ def join(station: str, rows: dict[str, list[Row]], labels: dict[str, str], toler
                 continue
             o = rows[k][j]
             used[k].add(j)
-            if o.freq.shape != d.freq.shape or not np.allclose(o.freq, d.freq, rtol=0, atol=5e-4):
+            if o.freq is not d.freq and (o.freq.shape != d.freq.shape
+                                         or not np.allclose(o.freq, d.freq, rtol=0, atol=5e-4)):
                 rejects.append(Reject(o.file, o.line, "frequency",
                                       f"frequency grid ({o.freq.size} bands) differs from the density row "
                                       f"at {d.time:%Y-%m-%d %H:%M}Z ({d.freq.size} bands)", o.text))

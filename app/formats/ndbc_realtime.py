@@ -49,7 +49,7 @@ def _station_of(name: str) -> str:
     return base.rsplit(".", 1)[0] if "." in base else ""
 
 
-def _parse_row(kind: str, file: str, line: int, text: str) -> nj.Row | Reject:
+def _parse_row(kind: str, file: str, line: int, text: str, grids: dict | None = None) -> nj.Row | Reject:
     m = _TIME.match(text)
     if m is None:
         return Reject(file, line, "time", "expected 'YYYY MM DD hh mm' at the start of the row", text)
@@ -84,11 +84,18 @@ def _parse_row(kind: str, file: str, line: int, text: str) -> nj.Row | Reject:
     vals = nj.parse_float_tokens([p[0] for p in pairs], kind, file, line, text)
     if isinstance(vals, Reject):
         return vals
-    freq = nj.parse_float_tokens([p[1] for p in pairs], "density", file, line, text)
-    if isinstance(freq, Reject):
-        return Reject(file, line, freq.field.replace("spec", "freq"), freq.reason, text)
-    if np.any(freq <= 0) or np.any(np.diff(freq) <= 0):
-        return Reject(file, line, "frequency", "frequencies must be positive and increasing along the row", text)
+    key = tuple(p[1] for p in pairs)
+    freq = grids.get(key) if grids is not None else None
+    if freq is None:  # grids repeat row after row: parse and check each one once
+        freq = nj.parse_float_tokens(list(key), "density", file, line, text)
+        if isinstance(freq, Reject):
+            return Reject(file, line, freq.field.replace("spec", "freq"), freq.reason, text)
+        if np.any(freq <= 0) or np.any(np.diff(freq) <= 0):
+            return Reject(file, line, "frequency", "frequencies must be positive and increasing along the row",
+                          text)
+        freq.setflags(write=False)
+        if grids is not None:
+            grids[key] = freq
     vals = np.where(vals == nj.SENTINEL, np.nan, vals)
     problem = nj.check_values(kind, vals, file, line, text)
     if problem is not None:
@@ -119,19 +126,24 @@ def _reject_truncated(rows: list[nj.Row], rejects: list[Reject]) -> list[nj.Row]
     return kept
 
 
-def parse_realtime_file(text: str, *, name: str, kind: str | None = None) -> tuple[list[nj.Row], list[Reject]]:
-    """Parse one file of the set into checked rows (file order) and rejects. `kind` defaults from `name`."""
+def parse_realtime_file(text: str, *, name: str, kind: str | None = None,
+                        grid_cache: dict | None = None) -> tuple[list[nj.Row], list[Reject]]:
+    """Parse one file of the set into checked rows (file order) and rejects. `kind` defaults from `name`.
+
+    `grid_cache` (shared across the files of a set) lets identical frequency rows share one array.
+    """
     kind = kind or kind_of(name)
     if kind is None:
         raise ValueError(f"`name` {name!r} has no recognised suffix ({', '.join('.' + s for s in SUFFIXES)})")
     rows: list[nj.Row] = []
     rejects: list[Reject] = []
+    grids: dict = {} if grid_cache is None else grid_cache
     for n, raw in enumerate(text.splitlines(), start=1):
         line = raw.rstrip("\r\n")
         stripped = line.strip()
         if not stripped or stripped.startswith("#"):
             continue
-        got = _parse_row(kind, name, n, line)
+        got = _parse_row(kind, name, n, line, grids)
         (rejects if isinstance(got, Reject) else rows).append(got)
     rows = nj.drop_duplicates(rows, rejects)
     rows = _reject_truncated(rows, rejects)
@@ -149,6 +161,7 @@ def parse_realtime_set(files: Mapping[str, str], *, station: str | None = None,
     rows: dict[str, list[nj.Row]] = {}
     rejects: list[Reject] = []
     notes: list[str] = []
+    grid_cache: dict = {}
     for name, text in files.items():
         kind = kind_of(name)
         if kind is None:
@@ -160,7 +173,7 @@ def parse_realtime_set(files: Mapping[str, str], *, station: str | None = None,
             continue
         if station is None:
             station = _station_of(name) or None
-        rows[kind], rej = parse_realtime_file(text, name=name, kind=kind)
+        rows[kind], rej = parse_realtime_file(text, name=name, kind=kind, grid_cache=grid_cache)
         rejects.extend(rej)
     return nj.join(station or "", rows, _LABEL, tolerance, rejects, notes)
 
