@@ -40,8 +40,10 @@ __all__ = [
     "goda_breaker_height",
     "iribarren",
     "komar_gaudiano",
+    "ShoaledWave",
     "mccowan",
     "miche_limit",
+    "refract_and_shoal",
     "shoal_to_breaking",
     "wave_power",
     "weggel_breaker_depth",
@@ -235,6 +237,49 @@ def breaking_crest_speed(depth: ArrayLike, *, period: ArrayLike | None = None, g
 
 
 # --------------------------------------------------------------------------- march to breaking
+
+
+class ShoaledWave(NamedTuple):
+    """Height [m] and ray angle to the contour normal [deg] at the target depth."""
+
+    height: NDArray[np.float64]
+    angle_deg: NDArray[np.float64]
+
+
+def refract_and_shoal(
+    height: ArrayLike,
+    period: ArrayLike,
+    angle_deg: ArrayLike,
+    from_depth: ArrayLike,
+    to_depth: ArrayLike,
+    *,
+    g: float = G,
+) -> ShoaledWave:
+    """Carry a wave from `from_depth` (``np.inf`` for deep water) to `to_depth` over straight
+    parallel contours: Snell (sin θ / C const) and energy flux, H2 = H1 Ks Kr with
+    Ks = √(Cg1/Cg2), Kr = √(cos θ1 / cos θ2). No breaking is applied.
+
+    Raises `InvalidInput` where the ray would turn past 90° (going seaward, the wave is trapped
+    before reaching `to_depth`).
+    """
+    H1 = _arr(height, "height", "m", allow_zero=True)
+    T = _arr(period, "period", "s")
+    th = np.asarray(angle_deg, dtype=float)
+    if not (np.isfinite(th).all() and np.all(np.abs(th) < 90.0)):
+        raise InvalidInput(f"`angle_deg` must be finite with |angle| < 90 (to the contour normal), got {angle_deg!r}")
+    h1 = np.asarray(from_depth, dtype=float)
+    h2 = np.asarray(to_depth, dtype=float)
+    for v, name in ((h1, "from_depth"), (h2, "to_depth")):
+        if not np.all(v > 0):  # np.inf (deep water) allowed; NaN fails
+            raise InvalidInput(f"`{name}` must be positive [m] (np.inf for deep water), got {v[~(v > 0)].ravel()[0]!r}")
+    f = 1.0 / T
+    s1 = np.sin(th * DEG) / phase_speed(f, h1, g=g)
+    sin2 = s1 * phase_speed(f, h2, g=g)
+    if np.any(np.abs(sin2) >= 1.0):
+        raise InvalidInput("`to_depth`: the ray turns back (total reflection) before reaching it")
+    cos2 = np.sqrt(1.0 - sin2**2)
+    H2 = H1 * np.sqrt(group_velocity(f, h1, g=g) / group_velocity(f, h2, g=g)) * np.sqrt(np.cos(th * DEG) / cos2)
+    return ShoaledWave(H2, np.rad2deg(np.arcsin(sin2)))
 
 
 class BreakingResult(NamedTuple):
