@@ -9,7 +9,7 @@ from __future__ import annotations
 import hashlib
 import json
 import tomllib
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -91,17 +91,20 @@ def _read_grid(profile: SpotProfile, path: Path) -> DepthGrid:
     origin = profile.origin
     try:
         if spec.format == "esri-ascii":
-            data = grids.parse_esri_ascii(path.read_text(encoding="utf-8", errors="replace"), name=path.name)
+            text = path.read_text(encoding="utf-8", errors="replace")
+            data = grids.parse_esri_ascii(text, name=path.name, crs=spec.crs)
         elif spec.format == "netcdf":
             data = grids.read_netcdf_grid(path, variable=spec.variable)
-        else:
-            data = grids.parse_xyz(path.read_text(encoding="utf-8", errors="replace"), name=path.name, spacing_m=spec.spacing_m)
-        data = replace(data, crs=spec.crs) if spec.format != "netcdf" else data
+        else:  # soundings are projected before gridding, so they arrive in local metres
+            text = path.read_text(encoding="utf-8", errors="replace")
+            data = grids.parse_xyz(
+                text, name=path.name, spacing_m=spec.spacing_m, crs=spec.crs, origin=(origin.latitude, origin.longitude)
+            )
         return grids.to_depth_grid(
             data, values=spec.values, origin=(origin.latitude, origin.longitude), spacing_m=spec.spacing_m
         )
     except ValueError as exc:  # GridError and friends name the file and line
-        raise ProfileError(f"bathymetry {path.name}: {exc}", field="bathymetry.file") from exc
+        raise ProfileError(f"field `bathymetry.file`: {exc}", field="bathymetry.file") from exc
     except OSError as exc:
         raise ProfileError(f"bathymetry {path.name}: cannot read: {exc}", field="bathymetry.file") from exc
 
