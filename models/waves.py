@@ -131,11 +131,15 @@ def wavenumber(frequency: ArrayLike, depth: ArrayLike, *, g: float = G) -> NDArr
     0.068019
     """
     f, h = _iv(frequency, depth)
-    omega = TWO_PI * f
-    k0 = np.asarray(omega**2 / g)
+    if h.size and h.max() < np.inf:  # common case: all depths finite, no masking copies
+        y = f * f
+        y *= TWO_PI**2 / g
+        y *= h
+        kh = _solve_kh(y)
+        kh /= h
+        return kh
+    k0 = np.asarray((TWO_PI * f) ** 2 / g)
     finite = np.isfinite(h)
-    if finite.all():  # common case: no masking copies
-        return _solve_kh(k0 * h) / h
     k = np.array(k0, dtype=float)
     if np.any(finite):
         y = k0[finite] * h[finite]
