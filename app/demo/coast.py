@@ -11,7 +11,7 @@ depth positive down and land <= 0, built from analytic shapes:
 * a **shelf** (a plain 1:55 slope for the beach) whose depth is a function of the distance to the shoreline (slope ``1:45`` at the
   shore, levelling off toward ``110 m``), so contours follow the coast round headlands and islands;
 * the spot's **feature** (headland, ridge, island, plain beach);
-* gentle **smooth noise** (a sum of long plane waves with phases from a fixed seed, a few per cent
+* gentle **smooth noise** (a sum of long plane waves with phases from a fixed seed, about 1 %
   of the depth, none in the surf zone), so the grids look like survey data but stay deterministic.
 
 The coast faces west (seaward normal 270°); the deep (~80-100 m) open-ocean edges are west, north
@@ -195,9 +195,9 @@ def _land_bay(x, y):
     shore = 2000.0 - 500.0 * _gauss(y / 1600.0)
     mainland = x >= shore
     # south arm: a low spit running west from the mainland along y ~ -1900 m
-    arm = (np.abs(y + 1900.0) <= 260.0 * (1.0 - 0.5 * _gauss((x + 700.0) / 300.0))) & (x >= -700.0)
-    # the island (Tavish Isle), elongated north-south, west of the bay
-    island = ((x + 1300.0) / 520.0) ** 2 + ((y + 350.0) / 1300.0) ** 2 <= 1.0
+    arm = (np.abs(y + 2300.0) <= 220.0) & (x >= -300.0)
+    # the island (Tavish Isle), long north-south, west of the bay: the bay opens only to the north-west
+    island = ((x + 900.0) / 450.0) ** 2 + ((y + 400.0) / 1750.0) ** 2 <= 1.0
     return mainland | arm | island
 
 
@@ -218,9 +218,9 @@ def _shelf(signed_distance):
 
 
 def _noise_field(seed: int, n_waves: int = 14):
-    """Smooth noise: a sum of plane waves (wavelengths 500-2000 m), unit rms, as a function of (x, y)."""
+    """Smooth noise: a sum of plane waves (wavelengths 1-3 km), unit rms, as a function of (x, y)."""
     rng = np.random.default_rng(seed)
-    k = 2.0 * np.pi / rng.uniform(500.0, 2000.0, n_waves)
+    k = 2.0 * np.pi / rng.uniform(1000.0, 3000.0, n_waves)
     ang = rng.uniform(0.0, 2.0 * np.pi, n_waves)
     phase = rng.uniform(0.0, 2.0 * np.pi, n_waves)
     kx, ky = k * np.cos(ang), k * np.sin(ang)
@@ -260,10 +260,10 @@ def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np
         x, y = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
         sd_xy = sd_at(np.stack([y.ravel(), x.ravel()], axis=-1)).reshape(x.shape)
         if spot.kind == "beach":
-            # a plain planar slope (contours straight and parallel), varying only gently alongshore:
-            # depth rises monotonically offshore everywhere
-            planar = BEACH_SLOPE * sd_xy * (1.0 + 0.005 * noise(np.zeros_like(y), y))
-            return np.where(sd_xy >= 0.0, planar, _shelf(sd_xy))
+            # a plain planar slope with gentle cross-shore bumps only: contours stay straight and
+            # parallel, and depth rises monotonically offshore everywhere
+            bumps = 0.2 * noise(x, np.zeros_like(x)) * _smoothstep(BEACH_SLOPE * sd_xy, 6.0, 15.0)
+            return np.where(sd_xy >= 0.0, BEACH_SLOPE * sd_xy + bumps, _shelf(sd_xy))
         h = _shelf(sd_xy)
         if spot.kind == "ridge":
             # crest along y = 0 running out to sea: shallower than its flanks by up to ~45 %, and
@@ -273,8 +273,9 @@ def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np
             # a submerged spur continuing the headland out to sea (points usually have one)
             spur = _smoothstep(-x, 1500.0, 2200.0) * (1.0 - _smoothstep(-x, 3200.0, 4600.0))
             h = h * (1.0 - 0.25 * _gauss((y + 1000.0) / 500.0) * spur)
-        # noise: 3 % of the depth, none in the surf zone (< 6 m) so break points stay where placed
-        amp = 0.03 * h * _smoothstep(h, 6.0, 15.0)
+        # noise: 1 % of the depth (more would refract long swell into noisy caustics), none in the
+        # surf zone (< 6 m) so break points stay where placed
+        amp = 0.01 * h * _smoothstep(h, 6.0, 15.0)
         return np.where(h > 0.0, h + amp * noise(x, y), h)
 
     return depth

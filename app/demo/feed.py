@@ -14,7 +14,7 @@ Everything here is invented (station, storms, numbers). The physics that makes i
   slowly through the day.
 
 Timeline about ``now`` (hours): the main west swell (from ~262-270°, 4200 km away, peak ~15 s)
-builds to its peak near now+12 h and fades; a north-west swell (from ~312°, 2600 km away, peak
+builds to its peak near now+12 h and fades; a north-west swell (from ~320°, 2600 km away, peak
 ~13 s) takes over from about now+30 h, peaking near now+42 h. So a spot sheltered from the west
 (the demo bay) is small for the first and open to the second inside the demo window.
 
@@ -139,7 +139,7 @@ def default_scenario(now: datetime) -> Scenario:
     west = Swell(name="west swell", distance_m=4.2e6, f_at_now_hz=0.059, source_fp_hz=0.067,
                  source_width_hz=0.008, peak_hs_m=2.6, dir_start_deg=262.0, dir_end_deg=270.0, spreading_s=55.0)
     northwest = Swell(name="north-west swell", distance_m=2.6e6, f_at_now_hz=0.030, source_fp_hz=0.075,
-                      source_width_hz=0.010, peak_hs_m=2.0, dir_start_deg=313.0, dir_end_deg=309.0,
+                      source_width_hz=0.010, peak_hs_m=2.0, dir_start_deg=324.0, dir_end_deg=319.0,
                       spreading_s=35.0)
     return Scenario(now=now, swells=(west, northwest), wind_sea=WindSea())
 
