@@ -299,9 +299,16 @@ def cos2s_normalisation(s: ArrayLike) -> NDArray[np.float64]:
     return np.exp((2.0 * s_ - 1.0) * np.log(2.0) + 2.0 * gammaln(s_ + 1.0) - gammaln(2.0 * s_ + 1.0)) / np.pi
 
 
-def cos2s(directions_deg: ArrayLike, *, mean_dir_deg: ArrayLike, s: ArrayLike) -> NDArray[np.float64]:
+def cos2s(
+    directions_deg: ArrayLike,
+    *,
+    mean_dir_deg: ArrayLike | None = None,
+    s: ArrayLike,
+    mean_dir: ArrayLike | None = None,
+) -> NDArray[np.float64]:
     """Cos-2s spreading function D(θ) [1/rad] (Longuet-Higgins et al. 1963), exact normalisation.
 
+    `mean_dir_deg` is the mean nautical FROM direction [deg] (`mean_dir` is accepted as an alias).
     `mean_dir_deg` and `s` broadcast against each other (e.g. one per frequency, shape (nf,));
     the result has their broadcast shape plus a last axis over `directions_deg`.
     Circular moments: a1 = s/(s+1), a2 = s(s-1)/((s+1)(s+2)) about the mean.
@@ -309,6 +316,9 @@ def cos2s(directions_deg: ArrayLike, *, mean_dir_deg: ArrayLike, s: ArrayLike) -
     d = np.asarray(directions_deg, dtype=float)
     if d.ndim != 1 or not np.isfinite(d).all():
         raise InvalidInput("`directions_deg` must be 1-D and finite")
+    if (mean_dir_deg is None) == (mean_dir is None):
+        raise InvalidInput("give exactly one of `mean_dir_deg` or `mean_dir` [deg]")
+    mean_dir_deg = mean_dir_deg if mean_dir is None else mean_dir
     m = np.asarray(mean_dir_deg, dtype=float)
     if not np.isfinite(m).all():
         raise InvalidInput(f"`mean_dir_deg` must be finite, got {mean_dir_deg!r}")

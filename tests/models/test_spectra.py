@@ -133,6 +133,20 @@ class TestSpreading:
         c = sp.coefficients_from_spectrum(D, DIRS)
         np.testing.assert_allclose(sp.mean_direction(c.a1, c.b1), [200.0, 250.0, 300.0], atol=1e-9)
 
+    def test_cos2s_alias_and_errors(self):
+        np.testing.assert_array_equal(sp.cos2s(DIRS, mean_dir=10.0, s=4.0), sp.cos2s(DIRS, mean_dir_deg=10.0, s=4.0))
+        with pytest.raises(InvalidInput, match="`mean_dir_deg`"):
+            sp.cos2s(DIRS, s=4.0)
+        with pytest.raises(InvalidInput, match="`s`"):
+            sp.cos2s(DIRS, mean_dir_deg=10.0, s=-1.0)
+
+    def test_zero_energy_rows_give_isotropic_coefficients(self):
+        efth = np.zeros((2, DIRS.size))
+        efth[1] = sp.cos2s(DIRS, mean_dir_deg=90.0, s=3.0)
+        c = sp.coefficients_from_spectrum(efth, DIRS)
+        assert [float(v[0]) for v in c] == [0.0, 0.0, 0.0, 0.0]
+        assert float(sp.mean_direction(c.a1[1:], c.b1[1:])[0]) == pytest.approx(90.0)
+
     def test_direction_bin_widths_any_order(self):
         d = np.array([350.0, 10.0, 90.0, 180.0, 270.0])
         w = sp.direction_bin_widths(d)

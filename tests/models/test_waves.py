@@ -8,7 +8,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from models import waves
-from models.errors import InvalidInput
+from models.errors import ConvergenceError, InvalidInput
 
 G981 = 9.81  # the handbook check values below were computed with g = 9.81
 
@@ -213,6 +213,13 @@ def test_large_arrays_cross_block_boundaries():
     k = waves.wavenumber(f, h)
     np.testing.assert_allclose(k * h, _long_double_kh((2 * np.pi * f) ** 2 / waves.G * h), rtol=1e-13)
     assert waves.wavenumber(f.reshape(200, 200), h.reshape(200, 200)).shape == (200, 200)
+
+
+def test_non_convergence_raises(monkeypatch):
+    # with a budget of one step the solver cannot confirm convergence: it must raise, not return
+    monkeypatch.setattr(waves, "_MAX_ITER", 1)
+    with pytest.raises(ConvergenceError, match="did not converge"):
+        waves.wavenumber(0.1, 7.0)
 
 
 @pytest.mark.parametrize(
