@@ -172,6 +172,7 @@ def trace_rays(
     TC = np.zeros(n)
     TE = np.zeros(n)
     k0, c0, base = k0_all, c0_all, base_all
+    XP, YP, THP, SP, TCP, TEP, HP = X, Y, TH, S, TC, TE, np.zeros(n)  # state before the last step
     path = [np.stack([x, y], axis=-1)] if record_path else None
 
     def rhs(px, py, pth, k0v, c0v):
@@ -200,13 +201,23 @@ def trace_rays(
         done = blocked | opened | lost
         if np.any(done):
             finish(blocked, BLOCKED, h1[blocked])
+            if np.any(opened):
+                # end exactly at the wave base (linear within the last step), so neighbouring rays
+                # end alike and the direction mapping has no step-count kinks
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    fr = np.clip((base - HP) / (h1 - HP), 0.0, 1.0)
+                fr = np.where(opened & (it > 0) & np.isfinite(fr), fr, 1.0)
+                for A, Ap in ((X, XP), (Y, YP), (TH, THP), (S, SP), (TC, TCP), (TE, TEP)):
+                    A[opened] = Ap[opened] + fr[opened] * (A[opened] - Ap[opened])
+                h1 = np.where(opened & (it > 0), np.minimum(h1, base), h1)
             finish(opened, OPEN, h1[opened])
             finish(lost, LOST, h1[lost])
             keep = ~done
             idx = idx[keep]
             X, Y, TH, S, TC, TE = X[keep], Y[keep], TH[keep], S[keep], TC[keep], TE[keep]
             k0, c0, base = k0[keep], c0[keep], base[keep]
-            c1, s1, kap1, ic1, ie1 = c1[keep], s1[keep], kap1[keep], ic1[keep], ie1[keep]
+            XP, YP, THP, SP, TCP, TEP, HP = (a[keep] for a in (XP, YP, THP, SP, TCP, TEP, HP))
+            c1, s1, kap1, ic1, ie1, h1 = c1[keep], s1[keep], kap1[keep], ic1[keep], ie1[keep], h1[keep]
             if not idx.size:
                 break
         if adaptive:
@@ -221,6 +232,7 @@ def trace_rays(
         dX = w * (c1 + 2.0 * (c2 + c3) + c4)
         dY = w * (s1 + 2.0 * (s2 + s3) + s4)
         X1, Y1 = X + dX, Y + dY
+        TH0 = TH
         TH = TH + w * (kap1 + 2.0 * (kap2 + kap3) + kap4)
         dTC = w * (ic1 + 2.0 * (ic2 + ic3) + ic4)
         dTE = w * (ie1 + 2.0 * (ie2 + ie3) + ie4)
@@ -228,7 +240,7 @@ def trace_rays(
         out_x = (X1 < xmin) | (X1 > xmax) | (Y1 < ymin) | (Y1 > ymax)
         if np.any(out_x):
             # cut the last step at the edge (linear), then end the ray there
-            with np.errstate(divide="ignore", invalid="ignore"):
+            with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
                 fr = np.ones(idx.size)
                 for lim, v0, dv in ((xmin, X, dX), (xmax, X, dX), (ymin, Y, dY), (ymax, Y, dY)):
                     f = (lim - v0) / dv
@@ -238,6 +250,7 @@ def trace_rays(
             X1 = np.clip(X1, xmin, xmax)
             Y1 = np.clip(Y1, ymin, ymax)
             dTC, dTE, ds = fr * dTC, fr * dTE, fr * ds
+        XP, YP, THP, SP, TCP, TEP, HP = X, Y, TH0, S, TC, TE, h1
         X, Y = X1, Y1
         S = S + ds
         TC = TC + dTC
@@ -260,6 +273,7 @@ def trace_rays(
             idx = idx[keep]
             X, Y, TH, S, TC, TE = X[keep], Y[keep], TH[keep], S[keep], TC[keep], TE[keep]
             k0, c0, base = k0[keep], c0[keep], base[keep]
+            XP, YP, THP, SP, TCP, TEP, HP = (a[keep] for a in (XP, YP, THP, SP, TCP, TEP, HP))
 
     return RayResult(
         status=out_status,

@@ -1,0 +1,651 @@
+"""Transfer tables: offshore swell (period × direction) -> a nearshore reference point.
+
+For every period, rays are launched from the reference point over the full circle and traced
+backwards (`models.rays`). By Longuet-Higgins (1957), E(f,θ)·C·Cg is constant along a ray, so the
+launch measure dβ that maps into offshore direction bin k (width Δθ0) gives
+
+    K²(f, θ0_k) = (1/Δθ0) ∫_{β → bin k} (C·Cg)_exit / (C·Cg)_ref dβ,
+
+with (C·Cg) taken at the depth where the ray ended (the wave base, or an edge in intermediate
+depth). Each pair of neighbouring open rays is an *interval* [β_i, β_i+1] -> [θ0_i, θ0_i+1] whose
+measure is spread uniformly over the offshore directions it covers (no ray-counting noise).
+Pairs whose ends differ in fate (open/blocked/lost) or whose offshore directions jump by more
+than `fold_jump_deg` (the two rays passed on either side of an obstacle) are split: each open end
+keeps half the interval as a point mass at its own direction. Folds (caustics) need nothing
+special: overlapping intervals add, and every bin stays finite (at most the whole launch circle).
+
+Directions at this module's edges are nautical FROM degrees (clockwise from north). An offshore
+FROM direction of a backward ray is the bearing it is heading at its end.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import math
+from collections.abc import Callable, Sequence
+from concurrent.futures import Executor
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from models.bathymetry import DepthGrid
+from models.constants import G
+from models.errors import InvalidInput
+from models.rays import BLOCKED, LOST, OPEN, trace_rays
+from models.waves import group_velocity, phase_speed
+
+__all__ = [
+    "DEFAULT_PERIODS_S",
+    "ENGINE_VERSION",
+    "NearshoreSpectrum",
+    "TransferTable",
+    "apply",
+    "build_table",
+    "build_tables",
+    "input_hash",
+    "reference_point",
+    "swell_window",
+]
+
+ENGINE_VERSION = "shoalcast-rays-1"
+
+# 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
+DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
+
+_SCALARS = ("reference_depth_m", "reference_x", "reference_y", "lost_fraction")
+
+
+def _nautical_to_math(deg: ArrayLike) -> NDArray[np.float64]:
+    """Bearing (nautical, clockwise from north) -> math angle (CCW from east) of the same vector [rad]."""
+    return np.radians(90.0 - np.asarray(deg, dtype=float))
+
+
+def _math_to_nautical(rad: ArrayLike) -> NDArray[np.float64]:
+    return (90.0 - np.degrees(np.asarray(rad, dtype=float))) % 360.0
+
+
+@dataclass(frozen=True, eq=False)
+class TransferTable:
+    """Per-break-point table on periods (np,) × offshore FROM direction bin centres (nd,).
+
+    coefficient               K = H_ref / H_offshore (0 where nothing arrives)
+    nearshore_direction_deg   energy-weighted mean FROM direction at the reference point (NaN if none)
+    travel_time_s             crest arrival time at the reference point after a plane crest through
+                              the local origin (x = y = 0), which travels at the exit phase speed
+                              beyond the ray's end; comparable between points of one grid (peel)
+    energy_travel_time_s      the same with group speed (energy)
+    open_fraction             fraction of the bin's width covered by rays that reach the point
+    lost_fraction             rays that used up the step budget / all rays (by period in
+                              `lost_fraction_by_period`)
+    """
+
+    periods_s: NDArray[np.float64]
+    directions_deg: NDArray[np.float64]
+    coefficient: NDArray[np.float64]
+    nearshore_direction_deg: NDArray[np.float64]
+    travel_time_s: NDArray[np.float64]
+    energy_travel_time_s: NDArray[np.float64]
+    open_fraction: NDArray[np.float64]
+    lost_fraction_by_period: NDArray[np.float64]
+    reference_depth_m: float
+    reference_x: float
+    reference_y: float
+    lost_fraction: float
+    meta: dict[str, Any] = field(default_factory=dict)
+
+    @property
+    def direction_bin_deg(self) -> float:
+        return 360.0 / self.directions_deg.size
+
+    def to_arrays(self) -> dict[str, Any]:
+        """Arrays and scalars for storage; `meta` as a JSON string under "meta_json"."""
+        out: dict[str, Any] = {
+            k: np.asarray(getattr(self, k))
+            for k in (
+                "periods_s",
+                "directions_deg",
+                "coefficient",
+                "nearshore_direction_deg",
+                "travel_time_s",
+                "energy_travel_time_s",
+                "open_fraction",
+                "lost_fraction_by_period",
+            )
+        }
+        out.update({k: float(getattr(self, k)) for k in _SCALARS})
+        out["meta_json"] = json.dumps(self.meta, sort_keys=True, default=float)
+        return out
+
+    @classmethod
+    def from_arrays(cls, data: dict[str, Any]) -> TransferTable:
+        """Inverse of `to_arrays` (missing keys raise InvalidInput naming them)."""
+        names = [
+            "periods_s", "directions_deg", "coefficient", "nearshore_direction_deg", "travel_time_s",
+            "energy_travel_time_s", "open_fraction", "lost_fraction_by_period", *_SCALARS,
+        ]  # fmt: skip
+        missing = [k for k in names if k not in data]
+        if missing:
+            raise InvalidInput(f"`data` lacks {', '.join(missing)}")
+        kw: dict[str, Any] = {k: np.asarray(data[k], dtype=float) for k in names[:8]}
+        kw.update({k: float(data[k]) for k in _SCALARS})
+        kw["meta"] = json.loads(data.get("meta_json", "{}"))
+        t = cls(**kw)
+        npd = (t.periods_s.size, t.directions_deg.size)
+        for k in names[2:7]:
+            if getattr(t, k).shape != npd:
+                raise InvalidInput(f"`{k}` has shape {getattr(t, k).shape}, expected {npd}")
+        return t
+
+
+# --------------------------------------------------------------------------- reference point
+
+
+def reference_point(
+    grid: DepthGrid,
+    x_break: float,
+    y_break: float,
+    reference_depth_m: float,
+    *,
+    step_m: float | None = None,
+) -> tuple[float, float, float]:
+    """Walk seaward (up the depth gradient) from the break point to `reference_depth_m`.
+
+    Returns (x, y, depth) with depth = `reference_depth_m` to interpolation accuracy (the break
+    point itself when it is already that deep). Raises InvalidInput when the break point is on
+    land or off the grid, or the walk meets a flat bottom / the grid edge first.
+    """
+    if not (isinstance(reference_depth_m, int | float | np.floating | np.integer) and reference_depth_m > 0):
+        raise InvalidInput(f"`reference_depth_m` must be a positive depth [m], got {reference_depth_m!r}")
+    xb, yb = float(x_break), float(y_break)
+    if not (math.isfinite(xb) and math.isfinite(yb)) or not bool(grid.contains(xb, yb)):
+        raise InvalidInput(f"break point ({x_break!r}, {y_break!r}) [m] is off the grid {grid.extent}")
+    h = float(grid.depth_at(xb, yb))
+    if h <= 0:
+        raise InvalidInput(f"break point ({xb:.1f}, {yb:.1f}) [m] is on land (depth {h:.2f} m)")
+    if h >= reference_depth_m:
+        return xb, yb, h
+    ds = 0.25 * min(grid.dx, grid.dy) if step_m is None else float(step_m)
+    xmin, xmax, ymin, ymax = grid.extent
+    nmax = int(4 * (xmax - xmin + ymax - ymin) / ds) + 10
+    x, y = xb, yb
+    for _ in range(nmax):
+        s = grid.sample(x, y)
+        gx, gy = float(s[1]), float(s[2])
+        gn = math.hypot(gx, gy)
+        if gn < 1e-9:
+            break
+        # midpoint step along the unit gradient (follows curved depth contours' normals)
+        xm, ym = x + 0.5 * ds * gx / gn, y + 0.5 * ds * gy / gn
+        sm = grid.sample(xm, ym)
+        gn2 = math.hypot(float(sm[1]), float(sm[2]))
+        if gn2 < 1e-9:
+            break
+        x1, y1 = x + ds * float(sm[1]) / gn2, y + ds * float(sm[2]) / gn2
+        if not bool(grid.contains(x1, y1)):
+            break
+        h1 = float(grid.depth_at(x1, y1))
+        if h1 >= reference_depth_m:
+            f = (reference_depth_m - h) / (h1 - h) if h1 > h else 1.0
+            xr, yr = x + f * (x1 - x), y + f * (y1 - y)
+            return xr, yr, float(grid.depth_at(xr, yr))
+        x, y, h = x1, y1, h1
+    raise InvalidInput(
+        f"reference depth {reference_depth_m} m is never reached walking seaward from the break point "
+        f"({xb:.1f}, {yb:.1f}) [m] (stopped at ({x:.1f}, {y:.1f}), depth {h:.2f} m)"
+    )
+
+
+# --------------------------------------------------------------------------- table building
+
+
+def _check_bins(name: str, v: float) -> int:
+    if not (isinstance(v, int | float | np.floating | np.integer) and v > 0):
+        raise InvalidInput(f"`{name}` must be a positive angle [deg], got {v!r}")
+    n = round(360.0 / v)
+    if abs(n * v - 360.0) > 1e-9 * 360:
+        raise InvalidInput(f"`{name}` must divide 360 degrees, got {v!r}")
+    return n
+
+
+def _cdf_bin(lo, hi, q, nd: int, width: float) -> NDArray[np.float64]:
+    """Spread each quantity q[:, c] uniformly over [lo, hi] (degrees, hi > lo, may pass 0/360);
+    return per-bin sums (nd, ncol) on bins centred at k*width (cyclic)."""
+    half = 0.5 * width
+    length = hi - lo
+    slope = q / length[:, None]
+    pts = np.concatenate([lo, hi])
+    dsl = np.concatenate([slope, -slope])
+    order = np.argsort(pts, kind="stable")
+    pts = pts[order]
+    dsl = dsl[order]
+    s1 = np.vstack([np.zeros((1, q.shape[1])), np.cumsum(dsl, axis=0)])
+    s2 = np.vstack([np.zeros((1, q.shape[1])), np.cumsum(dsl * pts[:, None], axis=0)])
+    edges = -half - 360.0 + width * np.arange(3 * nd + 1)
+    pos = np.searchsorted(pts, edges, side="right")
+    cdf = edges[:, None] * s1[pos] - s2[pos]
+    return np.diff(cdf, axis=0).reshape(3, nd, -1).sum(axis=0)
+
+
+def _point_bin(d, q, nd: int, width: float) -> NDArray[np.float64]:
+    k = np.floor((d + 0.5 * width) / width).astype(np.intp) % nd
+    return np.stack([np.bincount(k, weights=q[:, c], minlength=nd) for c in range(q.shape[1])], axis=-1)
+
+
+def _map_period(status, d_off, beta_near, w, tc, te, dbeta: float, nd: int, width: float, fold: float):
+    """Interval mapping for one period. All inputs (nb,) in launch order (cyclic)."""
+    nxt = np.roll(np.arange(status.size), -1)
+    op = status == OPEN
+    jump = ((d_off[nxt] - d_off + 180.0) % 360.0) - 180.0
+    bjump = ((beta_near[nxt] - beta_near + 180.0) % 360.0) - 180.0
+    regular = op & op[nxt] & (np.abs(jump) <= fold)
+    tiny = regular & (np.abs(jump) < 1e-9)
+    spread = regular & ~tiny
+
+    # regular intervals: quantities at the interval middle (ends differ by one launch step)
+    a = np.flatnonzero(spread)
+    b = nxt[a]
+    lo = np.minimum(d_off[a], d_off[a] + jump[a])
+    hi = np.maximum(d_off[a], d_off[a] + jump[a])
+    wm = 0.5 * (w[a] + w[b])
+    bm = np.radians(beta_near[a] + 0.5 * bjump[a])
+    m = dbeta * wm
+    q = np.stack(
+        [m, m * np.cos(bm), m * np.sin(bm), m * 0.5 * (tc[a] + tc[b]), m * 0.5 * (te[a] + te[b]), hi - lo],
+        axis=-1,
+    )
+    acc = _cdf_bin(lo, hi, q, nd, width) if a.size else np.zeros((nd, 6))
+
+    # point masses: tiny intervals (whole measure at one direction), and half intervals at open
+    # ends of split pairs
+    irregular = ~regular
+    pt_idx = [np.flatnonzero(tiny), np.flatnonzero(irregular & op), nxt[np.flatnonzero(irregular & op[nxt])]]
+    pt_meas = [np.full(pt_idx[0].size, dbeta), np.full(pt_idx[1].size, 0.5 * dbeta), np.full(pt_idx[2].size, 0.5 * dbeta)]
+    pi = np.concatenate(pt_idx)
+    if pi.size:
+        pm = np.concatenate(pt_meas) * w[pi]
+        br = np.radians(beta_near[pi])
+        qp = np.stack([pm, pm * np.cos(br), pm * np.sin(br), pm * tc[pi], pm * te[pi], np.zeros(pi.size)], axis=-1)
+        acc = acc + _point_bin(d_off[pi], qp, nd, width)
+    return acc
+
+
+def _trace_table_rows(
+    grid: DepthGrid,
+    x_ref: float,
+    y_ref: float,
+    periods: NDArray[np.float64],
+    opts: dict[str, Any],
+) -> dict[str, NDArray[np.float64]]:
+    """Trace and map one set of periods (all in one vectorised trace); rows of the table."""
+    g = opts["g"]
+    nb = opts["n_launch"]
+    nd = opts["n_bins"]
+    width = 360.0 / nd
+    dbeta = 360.0 / nb
+    beta = np.radians(dbeta * np.arange(nb))  # launch (backward) math angles
+    P = np.repeat(periods, nb)
+    B = np.tile(beta, periods.size)
+    h_ref = float(grid.depth_at(x_ref, y_ref))
+    r = trace_rays(
+        grid, x_ref, y_ref, B, P,
+        g=g, min_depth=opts["min_depth"], wave_base_fraction=opts["wave_base_fraction"],
+        edge_min_depth=opts["edge_min_depth"], step_m=opts["step_m"], max_turn_rad=opts["max_turn_rad"],
+        max_steps=opts["max_steps"],
+    )  # fmt: skip
+    op = r.status == OPEN
+    f = 1.0 / P
+    he = np.where(op, np.maximum(r.depth, 1e-3), 1.0)
+    ce = phase_speed(f, he, g=g)
+    cge = group_velocity(f, he, g=g)
+    cr = phase_speed(1.0 / periods, h_ref, g=g)
+    cgr = group_velocity(1.0 / periods, h_ref, g=g)
+    w = ce * cge / np.repeat(cr * cgr, nb)
+    # plane-front reference through the origin: the wave travels toward -(cos θ, sin θ)
+    proj = r.x * np.cos(r.theta) + r.y * np.sin(r.theta)
+    tc = r.crest_time - proj / ce
+    te = r.energy_time - proj / cge
+    d_off = _math_to_nautical(r.theta)
+    b_near = _math_to_nautical(B)
+
+    shape = (periods.size, nb)
+    st, d_off, w, tc, te, b_near = (a.reshape(shape) for a in (r.status, d_off, w, tc, te, b_near))
+    coef = np.zeros((periods.size, nd))
+    ndir = np.full((periods.size, nd), np.nan)
+    tt = np.full((periods.size, nd), np.nan)
+    et = np.full((periods.size, nd), np.nan)
+    of = np.zeros((periods.size, nd))
+    width_rad = math.radians(width)
+    for p in range(periods.size):
+        acc = _map_period(st[p], d_off[p], b_near[p], w[p], tc[p], te[p], dbeta, nd, width, opts["fold_jump_deg"])
+        e = acc[:, 0]
+        has = e > 1e-9 * dbeta  # below: round-off of the cumulative sums (an empty bin)
+        e = np.where(has, e, 0.0)
+        coef[p] = np.sqrt(np.maximum(e, 0.0) / width)
+        # nearshore mean direction: circular mean of the math-angle unit vectors of the
+        # nautical bearings (any consistent frame works: only the angle of the sum is kept)
+        ang = np.degrees(np.arctan2(acc[:, 2], acc[:, 1])) % 360.0
+        ndir[p] = np.where(has, ang, np.nan)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            tt[p] = np.where(has, acc[:, 3] / e, np.nan)
+            et[p] = np.where(has, acc[:, 4] / e, np.nan)
+        of[p] = np.minimum(acc[:, 5] / width, 1.0)
+    del width_rad
+    lost = (st == LOST).sum(axis=1) / nb
+    return {
+        "coefficient": coef,
+        "nearshore_direction_deg": ndir,
+        "travel_time_s": tt,
+        "energy_travel_time_s": et,
+        "open_fraction": of,
+        "lost_fraction_by_period": lost,
+        "n_blocked": (st == BLOCKED).sum(axis=1).astype(float),
+    }
+
+
+def _options(grid: DepthGrid, **kw: Any) -> dict[str, Any]:
+    opts = dict(kw)
+    opts["n_launch"] = _check_bins("launch_spacing_deg", kw["launch_spacing_deg"])
+    opts["n_bins"] = _check_bins("direction_bin_deg", kw["direction_bin_deg"])
+    sm = kw["smoothing_m"]
+    if sm is None:
+        sm = 2.0 * max(grid.dx, grid.dy)
+    opts["smoothing_m"] = float(sm)
+    if kw["step_m"] is None:
+        opts["step_m"] = max(min(grid.dx, grid.dy), 0.5 * float(sm))
+    if not (kw["fold_jump_deg"] > 0):
+        raise InvalidInput(f"`fold_jump_deg` must be positive [deg], got {kw['fold_jump_deg']!r}")
+    return opts
+
+
+def _prepared(grid: DepthGrid, smoothing_m: float) -> DepthGrid:
+    if grid.meta.get("smoothing_m") == smoothing_m:
+        return grid
+    return grid.smoothed(smoothing_m)
+
+
+def _periods(periods_s: ArrayLike) -> NDArray[np.float64]:
+    p = np.asarray(periods_s, dtype=float).ravel()
+    if p.size == 0 or not np.all(np.isfinite(p) & (p > 0)):
+        raise InvalidInput(f"`periods_s` must be a non-empty list of positive periods [s], got {periods_s!r}")
+    if np.any(np.diff(p) <= 0):
+        raise InvalidInput("`periods_s` must be strictly increasing")
+    return p
+
+
+def build_table(
+    grid: DepthGrid,
+    x_ref: float,
+    y_ref: float,
+    *,
+    periods_s: ArrayLike = DEFAULT_PERIODS_S,
+    direction_bin_deg: float = 2.0,
+    launch_spacing_deg: float = 0.25,
+    smoothing_m: float | None = None,
+    min_depth: float = 0.5,
+    edge_min_depth: float = 20.0,
+    wave_base_fraction: float = 0.5,
+    step_m: float | None = None,
+    max_turn_rad: float = 0.05,
+    max_steps: int = 20000,
+    fold_jump_deg: float = 10.0,
+    g: float = G,
+) -> TransferTable:
+    """Transfer table for the reference point (x_ref, y_ref) [m] (see the module docstring).
+
+    `smoothing_m` (Gaussian standard deviation; default two grid cells) is applied to `grid`
+    unless `grid.meta["smoothing_m"]` already equals it. `step_m` defaults to the larger of one
+    cell and half the smoothing length. Rays end open beyond `wave_base_fraction`·L0 (common
+    practice: half the deep-water wavelength) or at a grid edge at least `edge_min_depth` deep.
+    """
+    periods = _periods(periods_s)
+    opts = _options(
+        grid, direction_bin_deg=direction_bin_deg, launch_spacing_deg=launch_spacing_deg,
+        smoothing_m=smoothing_m, min_depth=min_depth, edge_min_depth=edge_min_depth,
+        wave_base_fraction=wave_base_fraction, step_m=step_m, max_turn_rad=max_turn_rad,
+        max_steps=max_steps, fold_jump_deg=fold_jump_deg, g=g,
+    )  # fmt: skip
+    sg = _prepared(grid, opts["smoothing_m"])
+    x_ref, y_ref = float(x_ref), float(y_ref)
+    if not bool(sg.contains(x_ref, y_ref)):
+        raise InvalidInput(f"reference point ({x_ref!r}, {y_ref!r}) [m] is off the grid {sg.extent}")
+    h_ref = float(sg.depth_at(x_ref, y_ref))
+    if h_ref < min_depth:
+        raise InvalidInput(f"reference point ({x_ref:.1f}, {y_ref:.1f}) [m] is too shallow or on land ({h_ref:.2f} m)")
+    rows = _trace_table_rows(sg, x_ref, y_ref, periods, opts)
+    return _assemble(periods, opts, sg, x_ref, y_ref, h_ref, [rows])
+
+
+def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
+    cat = {k: np.concatenate([p[k] for p in parts]) for k in parts[0]}
+    nd = opts["n_bins"]
+    width = 360.0 / nd
+    meta = {
+        "engine_version": ENGINE_VERSION,
+        "smoothing_m": opts["smoothing_m"],
+        "launch_spacing_deg": float(opts["launch_spacing_deg"]),
+        "direction_bin_deg": float(width),
+        "step_m": float(opts["step_m"]),
+        "min_depth_m": float(opts["min_depth"]),
+        "edge_min_depth_m": float(opts["edge_min_depth"]),
+        "wave_base_fraction": float(opts["wave_base_fraction"]),
+        "fold_jump_deg": float(opts["fold_jump_deg"]),
+        "max_steps": int(opts["max_steps"]),
+        "g": float(opts["g"]),
+        "grid_shape": list(sg.shape),
+        "grid_spacing_m": [sg.dx, sg.dy],
+        "blocked_fraction_by_period": (cat["n_blocked"] / opts["n_launch"]).tolist(),
+    }
+    lost = cat["lost_fraction_by_period"]
+    return TransferTable(
+        periods_s=periods,
+        directions_deg=width * np.arange(nd),
+        coefficient=cat["coefficient"],
+        nearshore_direction_deg=cat["nearshore_direction_deg"],
+        travel_time_s=cat["travel_time_s"],
+        energy_travel_time_s=cat["energy_travel_time_s"],
+        open_fraction=cat["open_fraction"],
+        lost_fraction_by_period=lost,
+        reference_depth_m=h_ref,
+        reference_x=x_ref,
+        reference_y=y_ref,
+        lost_fraction=float(lost.mean()),
+        meta=meta,
+    )
+
+
+def _table_task(args: tuple) -> dict[str, NDArray[np.float64]]:
+    """Picklable unit of work for executors: one point × one chunk of periods."""
+    grid, x_ref, y_ref, periods, opts = args
+    return _trace_table_rows(grid, x_ref, y_ref, periods, opts)
+
+
+def build_tables(
+    grid: DepthGrid,
+    points: Sequence[tuple[float, float]],
+    *,
+    executor: Executor | None = None,
+    period_chunks: int = 2,
+    progress: Callable[[int, int], None] | None = None,
+    **options: Any,
+) -> list[TransferTable]:
+    """Tables for several reference points of one grid, optionally on a concurrent.futures
+    Executor (process pool, Dask `client.get_executor()`): work is split per point and into
+    `period_chunks` chunks of periods. `options` are `build_table`'s keywords. `progress(done,
+    total)` is called as chunks finish. Results are identical to `build_table` per point.
+    """
+    defaults = dict(
+        periods_s=DEFAULT_PERIODS_S, direction_bin_deg=2.0, launch_spacing_deg=0.25, smoothing_m=None,
+        min_depth=0.5, edge_min_depth=20.0, wave_base_fraction=0.5, step_m=None, max_turn_rad=0.05,
+        max_steps=20000, fold_jump_deg=10.0, g=G,
+    )  # fmt: skip
+    unknown = set(options) - set(defaults)
+    if unknown:
+        raise InvalidInput(f"unknown option(s) {sorted(unknown)!r}")
+    defaults.update(options)
+    periods = _periods(defaults.pop("periods_s"))
+    opts = _options(grid, **defaults)
+    sg = _prepared(grid, opts["smoothing_m"])
+    refs = []
+    for k, (x, y) in enumerate(points):
+        x, y = float(x), float(y)
+        if not bool(sg.contains(x, y)):
+            raise InvalidInput(f"reference point {k} ({x!r}, {y!r}) [m] is off the grid {sg.extent}")
+        h = float(sg.depth_at(x, y))
+        if h < opts["min_depth"]:
+            raise InvalidInput(f"reference point {k} ({x:.1f}, {y:.1f}) [m] is too shallow or on land ({h:.2f} m)")
+        refs.append((x, y, h))
+    # interleave chunks so each holds long and short periods (similar cost)
+    nch = max(1, min(int(period_chunks), periods.size))
+    chunks = [np.arange(c, periods.size, nch) for c in range(nch)]
+    tasks = [(sg, x, y, periods[c], opts) for (x, y, _) in refs for c in chunks]
+    if executor is None:
+        results = []
+        for i, t in enumerate(tasks):
+            results.append(_table_task(t))
+            if progress:
+                progress(i + 1, len(tasks))
+    else:
+        futs = [executor.submit(_table_task, t) for t in tasks]
+        results = []
+        for i, fu in enumerate(futs):
+            results.append(fu.result())
+            if progress:
+                progress(i + 1, len(tasks))
+    tables = []
+    order = np.argsort(np.concatenate(chunks))
+    for k, (x, y, h) in enumerate(refs):
+        parts = results[k * nch : (k + 1) * nch]
+        cat = {key: np.concatenate([p[key] for p in parts])[order] for key in parts[0]}
+        tables.append(_assemble(periods, opts, sg, x, y, h, [cat]))
+    return tables
+
+
+# --------------------------------------------------------------------------- applying a table
+
+
+@dataclass(frozen=True, eq=False)
+class NearshoreSpectrum:
+    """Nearshore 1-D spectrum at the reference point: density (..., nf) [m²/Hz], energy-weighted
+    mean FROM direction (..., nf) [deg, NaN where no energy], hs = 4·sqrt(m0) (trapezoid) (...)."""
+
+    frequency_hz: NDArray[np.float64]
+    density: NDArray[np.float64]
+    mean_direction_deg: NDArray[np.float64]
+    hs: NDArray[np.float64]
+
+
+def _direction_matrix(src_deg: NDArray[np.float64], dst_deg: NDArray[np.float64]) -> NDArray[np.float64]:
+    """A[k, j]: periodic linear interpolation from values on src directions to dst directions."""
+    order = np.argsort(src_deg % 360.0)
+    s = (src_deg % 360.0)[order]
+    ext = np.concatenate([s[-1:] - 360.0, s, s[:1] + 360.0])
+    jdx = np.concatenate([order[-1:], order, order[:1]])
+    d = dst_deg % 360.0
+    pos = np.clip(np.searchsorted(ext, d, side="right") - 1, 0, ext.size - 2)
+    span = ext[pos + 1] - ext[pos]
+    t = np.where(span > 0, (d - ext[pos]) / np.where(span > 0, span, 1.0), 0.0)
+    A = np.zeros((dst_deg.size, src_deg.size))
+    rows = np.arange(dst_deg.size)
+    np.add.at(A, (rows, jdx[pos]), 1.0 - t)
+    np.add.at(A, (rows, jdx[pos + 1]), t)
+    return A
+
+
+def apply(table: TransferTable, frequency_hz: ArrayLike, directions_deg: ArrayLike, efth: ArrayLike) -> NearshoreSpectrum:
+    """Offshore directional spectrum efth (..., nf, nd) [m²/Hz/rad] on nautical FROM
+    `directions_deg` -> nearshore spectrum at the table's reference point.
+
+    E_near(f) = Σ_k K²(f, θ0_k) E_off(f, θ0_k) Δθ0: the offshore spectrum is interpolated
+    (periodic, linear) to the table's direction bins and the table (K², linear in frequency) to the
+    spectrum's frequencies; frequencies outside the table's period range take the nearest period.
+    """
+    f = np.asarray(frequency_hz, dtype=float).ravel()
+    dirs = np.asarray(directions_deg, dtype=float).ravel()
+    E = np.asarray(efth, dtype=float)
+    if f.size == 0 or not np.all(np.isfinite(f) & (f > 0)):
+        raise InvalidInput("`frequency_hz` must be non-empty, positive and finite [Hz]")
+    if dirs.size == 0 or not np.all(np.isfinite(dirs)):
+        raise InvalidInput("`directions_deg` must be non-empty and finite [deg]")
+    if E.ndim < 2 or E.shape[-2:] != (f.size, dirs.size):
+        raise InvalidInput(f"`efth` must have shape (..., {f.size}, {dirs.size}), got {E.shape}")
+    if not np.all(np.isfinite(E)):
+        raise InvalidInput("`efth` has non-finite values")
+    tf = 1.0 / table.periods_s[::-1]  # ascending table frequencies
+    k2 = (table.coefficient**2)[::-1]
+    nd = table.directions_deg.size
+    # K²(f) interpolated linearly in frequency per bin (clamped at the ends)
+    K2 = np.stack([np.interp(f, tf, k2[:, k]) for k in range(nd)], axis=-1)  # (nf, nd_table)
+    ndir = np.nan_to_num(table.nearshore_direction_deg[::-1], nan=0.0)
+    nb = _nautical_to_math(ndir)
+    cx = np.stack([np.interp(f, tf, (k2 * np.cos(nb))[:, k]) for k in range(nd)], axis=-1)
+    cy = np.stack([np.interp(f, tf, (k2 * np.sin(nb))[:, k]) for k in range(nd)], axis=-1)
+    A = _direction_matrix(dirs, table.directions_deg)  # (nd_table, nd_spec)
+    dth = math.radians(table.direction_bin_deg)
+    W = dth * K2 @ A  # (nf, nd_spec)
+    Wx = dth * cx @ A
+    Wy = dth * cy @ A
+    dens = np.einsum("...fj,fj->...f", E, W)
+    vx = np.einsum("...fj,fj->...f", E, Wx)
+    vy = np.einsum("...fj,fj->...f", E, Wy)
+    with np.errstate(invalid="ignore"):
+        mdir = np.where(dens > 0, _math_to_nautical(np.arctan2(vy, vx)), np.nan)
+    m0 = np.trapezoid(dens, f, axis=-1) if f.size > 1 else dens[..., 0] * 0.0
+    return NearshoreSpectrum(frequency_hz=f, density=dens, mean_direction_deg=mdir, hs=4.0 * np.sqrt(m0))
+
+
+# --------------------------------------------------------------------------- window and hashing
+
+
+def swell_window(table: TransferTable, threshold: float = 0.05) -> list[list[tuple[float, float]]]:
+    """Open arcs (K > threshold) of offshore FROM direction per period, as (from_deg, to_deg)
+    running clockwise from `from` to `to` (bin edges). A fully open circle is [(0.0, 360.0)]."""
+    if not (isinstance(threshold, int | float | np.floating | np.integer) and threshold >= 0):
+        raise InvalidInput(f"`threshold` must be a number >= 0, got {threshold!r}")
+    width = table.direction_bin_deg
+    half = 0.5 * width
+    out = []
+    for row in table.coefficient:
+        op = row > threshold
+        if op.all():
+            out.append([(0.0, 360.0)])
+            continue
+        arcs = []
+        if op.any():
+            # rotate so the row starts on a closed bin; then runs never wrap
+            start = int(np.flatnonzero(~op)[0])
+            idx = (start + np.arange(op.size)) % op.size
+            r = op[idx]
+            k = 0
+            while k < r.size:
+                if r[k]:
+                    k0 = k
+                    while k < r.size and r[k]:
+                        k += 1
+                    a = (table.directions_deg[idx[k0]] - half) % 360.0
+                    b = (table.directions_deg[idx[k - 1]] + half) % 360.0
+                    arcs.append((float(a), float(b)))
+                else:
+                    k += 1
+            arcs.sort()
+        out.append(arcs)
+    return out
+
+
+def input_hash(grid: DepthGrid | bytes, **parameters: Any) -> str:
+    """sha256 hex digest of the grid bytes, the parameters (sorted, JSON) and ENGINE_VERSION."""
+    h = hashlib.sha256()
+    h.update(ENGINE_VERSION.encode())
+    h.update(grid.to_bytes() if isinstance(grid, DepthGrid) else bytes(grid))
+
+    def norm(v: Any) -> Any:
+        if isinstance(v, np.ndarray):
+            return v.tolist()
+        if isinstance(v, np.generic):
+            return v.item()
+        return v
+
+    h.update(json.dumps({k: norm(v) for k, v in sorted(parameters.items())}, sort_keys=True, default=str).encode())
+    return h.hexdigest()
