@@ -78,6 +78,11 @@ def _merge(results: Sequence[ParseResult]) -> ParseResult:
     return ParseResult(records=tuple(records), rejects=tuple(rejects), notes=tuple(notes))
 
 
+def _clean(text: str | None, limit: int) -> str | None:
+    """Text safe for any database: PostgreSQL refuses NUL characters in text columns."""
+    return None if text is None else text.replace("\x00", "\\0")[:limit]
+
+
 def _issue_key(issue_time: datetime | None) -> str:
     return "" if issue_time is None else issue_time.strftime("%Y-%m-%dT%H:%M:%SZ")
 
@@ -92,7 +97,7 @@ def _arrays_blob(record: SpectrumRecord) -> bytes:
 def _values(record: SpectrumRecord | MetRecord) -> dict[str, Any]:
     if isinstance(record, MetRecord):
         return {f.name: getattr(record, f.name) for f in fields(record) if f.name not in ("time", "station")}
-    return {"separation_frequency": record.separation_frequency, "source_file": record.source_file}
+    return {"separation_frequency": record.separation_frequency, "source_file": _clean(record.source_file, 500)}
 
 
 def record_from_observation(obs: Observation) -> SpectrumRecord:
@@ -158,7 +163,7 @@ def store_result(session: Session, source: Source, result: ParseResult, *, files
                 session.add(
                     Observation(
                         source_id=source.id,
-                        station=rec.station,
+                        station=_clean(rec.station, 64) or "",
                         kind="met" if is_met else "spectrum",
                         time=rec.time,
                         issue_time=getattr(rec, "issue_time", None),
@@ -172,10 +177,17 @@ def store_result(session: Session, source: Source, result: ParseResult, *, files
         report.first_time, report.last_time = min(times), max(times)
     for rej in result.rejects[:MAX_REJECTS_STORED]:
         session.add(
-            Reject(source_id=source.id, file=rej.file[:500], line=rej.line, field=rej.field, reason=rej.reason, text=(rej.text or "")[:500])
+            Reject(
+                source_id=source.id,
+                file=_clean(rej.file, 500) or "",
+                line=rej.line,
+                field=_clean(rej.field, 100),
+                reason=_clean(rej.reason, 4000) or "",
+                text=_clean(rej.text or "", 500),
+            )
         )
     report.rejected = len(result.rejects)
-    report.rejects = [str(r) for r in result.rejects[:20]]
+    report.rejects = [_clean(str(r), 500) or "" for r in result.rejects[:20]]
     health = _health(session, source.id)
     now = utcnow()
     health.last_attempt = now
@@ -194,7 +206,7 @@ def record_failure(session: Session, source_id: str, message: str) -> None:
     health = _health(session, source_id)
     now = utcnow()
     health.last_attempt = now
-    health.last_error = message[:2000]
+    health.last_error = _clean(message, 2000)
     health.last_error_at = now
     session.flush()
 

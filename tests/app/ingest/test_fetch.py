@@ -221,10 +221,6 @@ def test_garbage_and_truncated_bodies_become_rejects_and_good_rows_stay(migrated
 
 
 def test_nul_bytes_in_a_body_become_rejects(migrated_db, server, helpers, fetcher, request) -> None:  # type: ignore[no-untyped-def]
-    if "postgres" in request.node.callspec.id:
-        request.applymarker(pytest.mark.xfail(
-            reason="app/ingest/store.py stores reject text with NUL bytes, which PostgreSQL text refuses "
-            "(the batch then fails as a whole); fix: strip \\x00 from reject file/reason/text", strict=True))
     server.routes["/nul.data_spec"] = helpers.Static(b"\x00" * 40 + b"\n2030 01 01 00 00 \x00\x01 junk\n")
     helpers.add_source(migrated_db, "nul", [f"{server.base}/nul.data_spec"])
     out = fetch_source(migrated_db, "nul", fetcher=fetcher)  # must not raise, whatever happens
