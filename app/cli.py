@@ -10,7 +10,7 @@ import sys
 from app.errors import BadInput, ShoalcastError
 
 # one module per command group in app/commands/
-COMMANDS = ("db", "spot", "source", "ingest", "agency")
+COMMANDS = ("db", "spot", "source", "ingest", "agency", "tables", "worker")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -42,6 +42,9 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # `shoalcast ... | head`
+        sys.stderr.close()
+        return 0
 
 
 if __name__ == "__main__":
