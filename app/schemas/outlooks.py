@@ -1,0 +1,227 @@
+"""Spot outlooks and agency hazard summaries, as JSON (the API and `shoalcast outlook --json`).
+
+Shape (fields may be added, never renamed):
+``{"spot_id", "units", "cautions": [...], "steps": [{"time", "source", "breaker_height_m": {"typical",
+"sets", "largest"} (or "breaker_height_ft" when units = "imperial"), "period_s",
+"nearshore_direction_deg", "breaker_type", "peel": {"direction", "angle_deg", "first_point"},
+"hazard": {"level", "label"}, "swells": [{"height_m", "period_s", "direction_deg",
+"breaker_height_m"}]}]}``.
+
+Directions are nautical FROM degrees (clockwise from true north). A value that is undefined (a
+swell blocked from the spot, a peel with no breaking wave) is null, never NaN. Times are RFC 3339 Z.
+"""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime
+from typing import Any, Literal
+
+from pydantic import BaseModel, ConfigDict, Field, field_serializer, model_serializer
+
+Units = Literal["metric", "imperial"]
+InputKind = Literal["observed", "arrival-forecast", "model-forecast"]
+
+
+def _z(value: datetime | None) -> str | None:
+    return None if value is None else value.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+class _Model(BaseModel):
+    model_config = ConfigDict(extra="forbid")
+
+
+class HeightClasses(_Model):
+    """Breaker heights of three height classes [m or ft]: typical = significant wave (Hm0),
+    sets = mean of the highest tenth (H1/10), largest = expected largest wave in an hour."""
+
+    typical: float | None
+    sets: float | None
+    largest: float | None
+
+
+class Peel(_Model):
+    direction: Literal["left", "right", "both", "closeout"] | None = Field(
+        description="seen by a surfer riding toward shore; null when no wave breaks"
+    )
+    sweep: Literal["left", "right", "both", "none"] | None = Field(
+        default=None, description="the way breaking runs along the crest, even for a closeout"
+    )
+    angle_deg: float | None = Field(
+        description="peel angle (Hutt, Black & Mead 2001): 0 = closeout, 90 = no breaking run"
+    )
+    first_point: str | None = Field(description="break point that breaks first")
+    largest_point: str | None = None
+    peel_rate_m_s: float | None = Field(default=None, description="Cb / tan(angle); null for a closeout")
+    method: Literal["break-times", "breaking-angle"] | None = None
+
+
+class Hazard(_Model):
+    level: int
+    label: str
+    policy: str
+    policy_is_default: bool
+
+
+class Swell(_Model):
+    """One swell train: offshore height, period, direction; breaker height of its significant wave."""
+
+    height_m: float
+    period_s: float
+    direction_deg: float
+    breaker_height_m: float | None = Field(description="null where the spot is sheltered from this train")
+    nearshore_height_m: float | None = None
+    nearshore_direction_deg: float | None = None
+    spread_deg: float | None = None
+    energy_fraction: float | None = None
+    height_ft: float | None = None
+    breaker_height_ft: float | None = None
+
+    @model_serializer(mode="wrap")
+    def _drop_absent_feet(self, handler: Any) -> dict[str, Any]:
+        data = handler(self)
+        for key in ("height_ft", "breaker_height_ft"):
+            if data.get(key) is None:
+                data.pop(key, None)
+        return data
+
+
+class PointDetail(_Model):
+    """Per break point (in order along the break)."""
+
+    name: str
+    nearshore_height_m: float | None = Field(description="Hm0 at the table's reference depth")
+    nearshore_period_s: float | None
+    nearshore_direction_deg: float | None
+    breaker_height_m: float | None = Field(description="sets (H1/10) breaker height")
+    breaking_depth_m: float | None
+    breaking_angle_deg: float | None = Field(description="angle of the crest to the contour at breaking")
+    komar_gaudiano_height_m: float | None = Field(
+        description="Komar & Gaudiano (1975) cross-check of the sets height"
+    )
+    iribarren: float | None
+    breaker_type: str | None
+
+
+class Offshore(_Model):
+    hm0_m: float
+    peak_period_s: float | None
+    direction_deg: float | None = Field(description="peak direction of the largest train")
+    wave_power_kw_m: float | None
+
+
+class Step(_Model):
+    time: datetime
+    source: str
+    input: InputKind
+    issued: datetime | None = Field(default=None, description="issue time of a model forecast")
+    observed_at: datetime | None = Field(
+        default=None, description="observation the arrival forecast mostly comes from"
+    )
+    breaker_height_m: HeightClasses | None = None
+    breaker_height_ft: HeightClasses | None = None
+    period_s: float | None
+    nearshore_direction_deg: float | None
+    breaker_type: str | None
+    breaking_depth_m: float | None = None
+    iribarren: float | None = None
+    largest_point: str | None = None
+    peel: Peel
+    hazard: Hazard
+    offshore: Offshore
+    swells: list[Swell]
+    points: list[PointDetail] = Field(default_factory=list)
+
+    @field_serializer("time", "issued", "observed_at")
+    def _times(self, value: datetime | None) -> str | None:
+        return _z(value)
+
+    @model_serializer(mode="wrap")
+    def _one_height_key(self, handler: Any) -> dict[str, Any]:
+        data = handler(self)
+        for key in ("breaker_height_m", "breaker_height_ft"):
+            if data.get(key) is None:
+                data.pop(key, None)
+        return data
+
+
+class OutlookOptions(_Model):
+    """What was asked for; kept with a cached outlook so it can be refreshed."""
+
+    hours: int
+    start: datetime | None = Field(description="null = from the current hour")
+    units: Units
+    agency_id: str | None
+    water_level_m: float = 0.0
+
+    @field_serializer("start")
+    def _start(self, value: datetime | None) -> str | None:
+        return _z(value)
+
+
+class OutlookBody(_Model):
+    spot_id: str
+    name: str | None = None
+    units: Units
+    cautions: list[str]
+    computed_at: datetime
+    start: datetime
+    hours: int
+    policy: str
+    policy_is_default: bool
+    break_points: list[str] = Field(default_factory=list)
+    notes: list[str] = Field(default_factory=list, description="inputs left out, and why")
+    options: OutlookOptions
+    steps: list[Step]
+
+    @field_serializer("computed_at", "start")
+    def _times(self, value: datetime) -> str | None:
+        return _z(value)
+
+
+class SpotHazard(_Model):
+    spot_id: str
+    name: str
+    level: int | None = Field(description="level of the current step; null when no outlook is available")
+    label: str | None
+    max_level: int | None = Field(description="highest level in the horizon")
+    max_label: str | None
+    onset: datetime | None = Field(description="first step in the horizon at the highest level")
+    valid_until: datetime | None
+    policy: str | None = None
+    policy_is_default: bool | None = None
+    note: str | None = None
+    cautions: list[str]
+
+    @field_serializer("onset", "valid_until")
+    def _times(self, value: datetime | None) -> str | None:
+        return _z(value)
+
+
+class AgencyHazards(_Model):
+    agency_id: str
+    name: str
+    computed_at: datetime
+    horizon_hours: float
+    version: str
+    cautions: list[str]
+    spots: list[SpotHazard]
+
+    @field_serializer("computed_at")
+    def _times(self, value: datetime) -> str | None:
+        return _z(value)
+
+
+__all__ = [
+    "AgencyHazards",
+    "HeightClasses",
+    "Hazard",
+    "Offshore",
+    "OutlookBody",
+    "OutlookOptions",
+    "Peel",
+    "PointDetail",
+    "SpotHazard",
+    "Step",
+    "Swell",
+    "Units",
+]

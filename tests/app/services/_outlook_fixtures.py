@@ -1,0 +1,96 @@
+"""Synthetic coasts, tables and spectra for the outlook and hazard tests (small grids: ~3 km, 50 m)."""
+
+from __future__ import annotations
+
+import io
+from datetime import datetime
+from functools import cache
+
+import numpy as np
+
+from app.services.outlooks import PointSetup
+from models.bathymetry import DepthGrid
+from models.spectra import cos2s, jonswap
+from models.transfer import TransferTable, build_table, reference_point
+
+DX = 50.0
+SLOPE = 0.02  # local beach slope inshore of x = -500
+SHORE_X = 300.0
+PERIODS = (8.0, 10.0, 12.0, 14.0, 16.0)
+FREQ = np.linspace(0.04, 0.25, 43)
+DIRS = np.arange(0.0, 360.0, 2.0)
+
+
+def _xy() -> tuple[np.ndarray, np.ndarray]:
+    x = np.arange(-2500.0, 500.0 + DX / 2, DX)
+    y = np.arange(-1500.0, 1500.0 + DX / 2, DX)
+    return np.meshgrid(x, y)
+
+
+def _profile(dist: np.ndarray) -> np.ndarray:
+    """Depth at `dist` metres seaward of the shoreline: slope 0.02, steeper (0.05 more) beyond 800 m,
+    so the offshore edge (~160 m) is beyond the wave base of every test period."""
+    return SLOPE * dist + 0.05 * np.maximum(0.0, dist - 800.0)
+
+
+def grid_of(kind: str) -> DepthGrid:
+    X, Y = _xy()
+    if kind == "beach":  # straight parallel contours, shore along y, facing west (270)
+        depth = _profile(SHORE_X - X)
+    elif kind == "ridge":  # the shoreline juts 400 m seaward around y = 0, symmetric in y
+        depth = _profile(SHORE_X - 400.0 * np.exp(-((Y / 350.0) ** 2)) - X)
+    elif kind == "jetty":  # the beach with a land strip running 1.8 km seaward north of the point
+        depth = _profile(SHORE_X - X)
+        depth = np.where((Y >= 250.0) & (Y <= 400.0) & (X >= -1500.0), -1.0, depth)
+    else:
+        raise ValueError(kind)
+    return DepthGrid(depth=depth, x0=float(X[0, 0]), y0=float(Y[0, 0]), dx=DX, dy=DX)
+
+
+def break_x(kind: str, y: float, depth: float = 2.0) -> float:
+    """x of the `depth` contour at y (inshore of the 800 m steepening)."""
+    shore = SHORE_X - (400.0 * np.exp(-((y / 350.0) ** 2)) if kind == "ridge" else 0.0)
+    return float(shore - depth / SLOPE)
+
+
+@cache
+def table_for(kind: str, x: float, y: float, reference_depth_m: float = 10.0) -> TransferTable:
+    grid = grid_of(kind)
+    xr, yr, _ = reference_point(grid, x, y, reference_depth_m)
+    return build_table(
+        grid, xr, yr, periods_s=PERIODS, direction_bin_deg=2.0, launch_spacing_deg=1.0, smoothing_m=0.0
+    )
+
+
+def points_for(kind: str, ys: tuple[float, ...], names: tuple[str, ...] | None = None) -> list[PointSetup]:
+    grid = grid_of(kind)
+    names = names or tuple(f"p{i}" for i in range(len(ys)))
+    out = []
+    for name, y in zip(names, ys, strict=True):
+        x = break_x(kind, y)
+        geo = grid.contour_geometry(x, y)
+        out.append(
+            PointSetup(
+                name, x, y, table_for(kind, x, y), float(geo.depth), float(geo.slope), float(geo.normal_deg)
+            )
+        )
+    return out
+
+
+def swell(hs: float, tp: float, from_deg: float, *, gamma: float = 20.0, s: float = 300.0) -> np.ndarray:
+    """A narrow swell E(f, θ) on FREQ × DIRS [m²/Hz/rad] (JONSWAP × cos-2s)."""
+    return (
+        jonswap(FREQ, hs=hs, tp=tp, gamma=gamma)[:, None] * cos2s(DIRS, mean_dir_deg=from_deg, s=s)[None, :]
+    )
+
+
+def table_npz(table: TransferTable) -> bytes:
+    buf = io.BytesIO()
+    np.savez(buf, **table.to_arrays())
+    return buf.getvalue()
+
+
+def hours(t0: datetime, n: int) -> list[datetime]:
+    from datetime import timedelta
+
+    return [t0 + timedelta(hours=h) for h in range(n)]

@@ -1,0 +1,406 @@
+"""Spot outlooks: breaking over straight contours, peel, sheltering, arrival, hazard, caching.
+
+Outside values: Weggel (1972) breaker index and Snell + linear shoaling as implemented (and checked
+against their sources) in models.breaking; Komar & Gaudiano (1975) likewise; deep-water group speed
+Cg = gT/4π (Munk 1947, from memory); surfers' left/right convention (common practice: seen by a
+surfer riding toward shore); closeout below a 20° peel angle (common practice, models.peel).
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import json
+import math
+import sys
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from app.db.session import session_scope
+from app.db.tables import Bathymetry, BreakPoint, Observation, OutlookCache, Source, Spot, TransferTableRow
+from app.formats.records import ParseResult, SpectrumRecord
+from app.ingest.store import store_result
+from app.services import outlooks
+from models.breaking import shoal_to_breaking
+from models.constants import G
+from models.hazard import DEFAULT_POLICY, HazardLevel, HazardPolicy
+from models.waves import phase_speed
+
+_spec = importlib.util.spec_from_file_location(
+    "_outlook_fixtures", Path(__file__).with_name("_outlook_fixtures.py")
+)
+fx = importlib.util.module_from_spec(_spec)
+sys.modules.setdefault("_outlook_fixtures", fx)
+_spec.loader.exec_module(fx)
+
+T0 = datetime(2030, 1, 1, tzinfo=UTC)
+
+
+def run(
+    kind: str, ys: tuple[float, ...], efth: np.ndarray, *, policy: HazardPolicy = DEFAULT_POLICY, water=0.0
+):
+    pts = fx.points_for(kind, ys)
+    e = np.asarray(efth)
+    e = e[None] if e.ndim == 2 else e
+    batch = outlooks.prepare_offshore(
+        fx.hours(T0, e.shape[0]), fx.FREQ, fx.DIRS, e, source="test", kind="model-forecast"
+    )
+    arr = outlooks.compute_spots(batch, [pts], water_level_m=water)[0]
+    return pts, arr, outlooks.build_steps(batch, pts, arr, policy, "metric")
+
+
+# --------------------------------------------------------------------------- breaking
+
+
+@pytest.mark.parametrize("from_deg", [270.0, 290.0])
+def test_straight_contours_breaker_matches_weggel_snell_shoaling(from_deg: float) -> None:
+    hs, tp = 1.2, 12.0
+    pts, arr, steps = run("beach", (0.0,), fx.swell(hs, tp, from_deg))
+    # the reference: one monochromatic wave of height Hs shoaled and refracted from deep water
+    # (500 m, beyond the wave base) over straight parallel contours to Weggel breaking (models.breaking)
+    ref = shoal_to_breaking(hs, tp, from_deg - 270.0, 500.0, slope=fx.SLOPE)
+    hb, db = arr.hb[0, 0, 0], arr.db[0, 0, 0]
+    # tolerance 5 %: the table (2° bins, interpolated in period) and the narrow spectrum versus one wave
+    assert hb == pytest.approx(float(ref.height), rel=0.05)
+    assert db == pytest.approx(float(ref.depth), rel=0.05)
+    lo, hi = sorted([float(ref.height), float(ref.komar_gaudiano_height)])
+    assert lo * 0.95 <= hb <= hi * 1.05  # within the Weggel .. Komar & Gaudiano spread
+    # Snell: sin θ / C constant from deep water (C0 = gT/2π) to the breaking depth
+    sin_b = (
+        math.sin(math.radians(from_deg - 270.0)) * float(phase_speed(1 / tp, db)) / (G * tp / (2 * math.pi))
+    )
+    assert arr.angle_b[0, 0, 0] == pytest.approx(math.degrees(math.asin(sin_b)), abs=1.0)
+    step = steps[0]
+    assert step.breaker_height_m.typical == pytest.approx(round(hb, 1))
+    assert step.breaker_height_m.typical < step.breaker_height_m.sets < step.breaker_height_m.largest
+    assert step.breaker_type == str(ref.breaker_type)
+    assert step.period_s == pytest.approx(tp, abs=0.6)
+
+
+def test_water_level_moves_the_break_shoreward_depth_up() -> None:
+    _, low, _ = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0))
+    _, high, _ = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0), water=1.5)
+    assert high.db[0, 0, 0] == pytest.approx(low.db[0, 0, 0], rel=0.05)  # breaks at the same water depth
+    assert np.all(high.water_level == 1.5)
+
+
+# --------------------------------------------------------------------------- peel
+
+
+@pytest.mark.parametrize(("from_deg", "sweep", "first"), [(290.0, "right", "p0"), (250.0, "left", "p2")])
+def test_oblique_swell_on_a_straight_beach_sweeps_the_crest_way_and_is_a_closeout(
+    from_deg, sweep, first
+) -> None:
+    # points north (p0) to south (p2); the beach faces west. From WNW the crest reaches the north end
+    # first and breaking runs south, to the right of a surfer riding east (common practice).
+    _, _, steps = run("beach", (300.0, 0.0, -300.0), fx.swell(1.0, 10.0, from_deg))
+    peel = steps[0].peel
+    assert peel.method == "break-times"
+    assert peel.sweep == sweep and peel.first_point == first
+    assert peel.direction == "closeout"  # refraction leaves a small breaking angle (< 20°)
+    assert 0 < peel.angle_deg < 20 and peel.peel_rate_m_s is None
+
+
+def test_single_point_peel_from_breaking_angle() -> None:
+    _, arr, steps = run("beach", (0.0,), fx.swell(1.0, 10.0, 300.0))
+    assert steps[0].peel.method == "breaking-angle"
+    assert steps[0].peel.sweep == "right"
+    assert steps[0].peel.angle_deg == pytest.approx(abs(arr.angle_b[0, 0, 0]), abs=1.0)
+
+
+def test_normal_incidence_is_a_closeout() -> None:
+    _, _, steps = run("beach", (300.0, 0.0, -300.0), fx.swell(1.0, 10.0, 270.0))
+    assert steps[0].peel.direction == "closeout"
+    assert steps[0].peel.angle_deg < 2
+
+
+def test_symmetric_ridge_at_normal_incidence_breaks_first_on_its_crest_and_runs_both_ways() -> None:
+    _, _, steps = run("ridge", (-500.0, -250.0, 0.0, 250.0, 500.0), fx.swell(1.0, 12.0, 270.0))
+    peel = steps[0].peel
+    assert peel.first_point == "p2"
+    assert peel.sweep == "both"
+    assert peel.direction in ("both", "closeout")
+    if peel.direction == "both":
+        assert peel.angle_deg >= 20
+
+
+# --------------------------------------------------------------------------- sheltering
+
+
+def test_a_sheltered_point_gets_nothing_from_the_blocked_swell_and_all_of_the_open_one() -> None:
+    # the jetty north of the point blocks swell from the north-west; from the south-west it is open
+    blocked = fx.swell(1.5, 14.0, 320.0)
+    open_ = fx.swell(1.0, 9.0, 245.0)
+    _, arr, steps = run("jetty", (0.0,), blocked + open_)
+    trains = {round(s.direction_deg): s for s in steps[0].swells}
+    nw = next(s for d, s in trains.items() if 310 <= d <= 330)
+    sw = next(s for d, s in trains.items() if 235 <= d <= 255)
+    assert nw.breaker_height_m is None or nw.breaker_height_m < 0.1 * sw.breaker_height_m
+    # the open swell alone, on the same point
+    _, alone, _ = run("jetty", (0.0,), open_)
+    assert sw.breaker_height_m == pytest.approx(round(alone.hb[0, 0, 0], 1), abs=0.11)
+    json.dumps(steps[0].model_dump(mode="json"), allow_nan=False)  # no NaN reaches JSON
+
+
+def test_nothing_arriving_gives_nulls_not_nan() -> None:
+    _, _, steps = run("jetty", (0.0,), fx.swell(1.0, 12.0, 330.0, s=2000.0))
+    data = steps[0].model_dump(mode="json")
+    json.dumps(data, allow_nan=False)
+    assert data["peel"]["direction"] is None or data["breaker_height_m"]["typical"] < 0.2
+
+
+# --------------------------------------------------------------------------- hazard
+
+
+def test_hazard_levels_switch_at_the_set_breaker_thresholds() -> None:
+    policy = HazardPolicy(
+        name="test policy",
+        levels=(
+            HazardLevel(0, "calm"),
+            HazardLevel(1, "care", set_height_m=1.0),
+            HazardLevel(2, "danger", set_height_m=2.0),
+            HazardLevel(3, "closed", set_height_m=3.0),
+        ),
+    )
+    e = np.stack([fx.swell(h, 10.0, 270.0) for h in (0.3, 0.6, 0.9, 1.2, 1.5, 1.8)])
+    _, arr, steps = run("beach", (0.0,), e, policy=policy)
+    sets = arr.hb[0, :, 1]
+    expected = [sum(sets[i] >= t for t in (1.0, 2.0, 3.0)) for i in range(len(steps))]
+    assert [s.hazard.level for s in steps] == expected
+    assert len(set(expected)) >= 3  # the ramp crosses at least two thresholds
+    assert [s.hazard.label for s in steps] == [policy.label(v) for v in expected]
+
+
+# --------------------------------------------------------------------------- the database side
+
+
+def _spot(
+    session, spot_id: str, sources: list[str], kind: str = "beach", ys=(0.0,), lat=0.0, lon=0.0
+) -> None:
+    grid = fx.grid_of(kind)
+    spot = Spot(
+        id=spot_id, name=spot_id.title(), latitude=lat, longitude=lon, faces_deg=270.0, profile={},
+        profile_sha256="0" * 64, sources=sources,
+    )  # fmt: skip
+    spot.bathymetry = Bathymetry(
+        depth=grid.depth, nx=grid.shape[1], ny=grid.shape[0], x0=grid.x0, y0=grid.y0, dx=grid.dx, dy=grid.dy,
+        origin_latitude=lat, origin_longitude=lon, datum="MSL", source_file="synthetic", source_format="esri-ascii",
+        sha256="1" * 64,
+    )  # fmt: skip
+    for i, y in enumerate(ys):
+        x = fx.break_x(kind, y)
+        bp = BreakPoint(
+            position=i,
+            name=f"p{i}",
+            x=x,
+            y=y,
+            latitude=lat,
+            longitude=lon,
+            depth_m=2.0,
+            reference_depth_m=10.0,
+        )
+        table = fx.table_for(kind, x, y)
+        bp.table = TransferTableRow(
+            spot_id=spot_id, input_hash=f"h{i}", engine_version="test", arrays=fx.table_npz(table), meta={}
+        )
+        spot.break_points.append(bp)
+    session.add(spot)
+    session.flush()
+
+
+def _source(session, source_id: str, lat: float = 0.0, lon: float = 0.0) -> Source:
+    src = Source(
+        id=source_id,
+        name=source_id,
+        format="cf-netcdf",
+        latitude=lat,
+        longitude=lon,
+        depth_m=None,
+        urls=[],
+        config={},
+    )
+    session.add(src)
+    session.flush()
+    return src
+
+
+def _records(times, efths, *, issue=None, station="st") -> ParseResult:
+    recs = tuple(
+        SpectrumRecord(
+            station=station,
+            time=t,
+            issue_time=issue,
+            frequency=fx.FREQ,
+            density=(e * np.radians(2.0)).sum(axis=1),
+            directions_deg=fx.DIRS,
+            efth=e,
+        )  # fmt: skip
+        for t, e in zip(times, efths, strict=True)
+    )
+    return ParseResult(records=recs)
+
+
+def test_model_forecast_steps_are_used_directly_and_json_is_clean(migrated_db: str) -> None:
+    with session_scope(migrated_db) as s:
+        src = _source(s, "model")
+        _spot(s, "beach-a", ["model"])
+        old, new = T0 - timedelta(hours=12), T0 - timedelta(hours=6)
+        store_result(
+            s, src, _records(fx.hours(T0, 4), [fx.swell(1.0, 10.0, 270.0)] * 4, issue=old), files=["a"]
+        )
+        store_result(
+            s, src, _records(fx.hours(T0, 4), [fx.swell(2.0, 12.0, 280.0)] * 4, issue=new), files=["b"]
+        )
+        body = outlooks.compute_outlook(s, "beach-a", hours=3, start=T0, units="imperial")
+    data = body.model_dump(mode="json")
+    text = json.dumps(data, allow_nan=False)
+    assert [st["time"] for st in data["steps"]] == [f"2030-01-01T0{h}:00:00Z" for h in range(4)]
+    st = data["steps"][0]
+    assert st["input"] == "model-forecast" and st["issued"] == "2029-12-31T18:00:00Z"  # the latest issue
+    assert st["offshore"]["hm0_m"] == pytest.approx(2.0, abs=0.1)
+    assert "breaker_height_ft" in st and "breaker_height_m" not in st
+    assert st["breaker_height_ft"]["typical"] * 2 == round(
+        st["breaker_height_ft"]["typical"] * 2
+    )  # 0.5 ft steps
+    assert set(st) >= {
+        "time",
+        "source",
+        "period_s",
+        "nearshore_direction_deg",
+        "breaker_type",
+        "peel",
+        "hazard",
+        "swells",
+    }
+    assert set(st["peel"]) >= {"direction", "angle_deg", "first_point"}
+    assert set(st["swells"][0]) >= {"height_m", "period_s", "direction_deg", "breaker_height_m"}
+    assert data["cautions"] and "lifeguards" in text and data["policy_is_default"] is True
+
+
+def test_arrivals_from_an_upstream_station_come_long_periods_first(migrated_db: str) -> None:
+    # station 200 km due west of the spot on the equator; a swell event of two trains (16 s and 8 s,
+    # both from the west) reaches the station at t_e. Delay = distance / (gT/4π) (deep water).
+    dist_deg = 200_000.0 / (math.pi / 180.0 * 6_371_008.8)
+    t_first = T0 - timedelta(hours=30)
+    t_e = t_first + timedelta(hours=20)
+    times = fx.hours(t_first, 40)
+    background = fx.swell(0.05, 6.0, 270.0, gamma=1.0, s=2.0)
+    event = fx.swell(1.0, 16.0, 270.0) + fx.swell(0.8, 8.0, 270.0)
+    efths = [background + (event if t >= t_e else 0.0) for t in times]
+    with session_scope(migrated_db) as s:
+        src = _source(s, "buoy", lat=0.0, lon=-dist_deg)
+        _spot(s, "beach-b", ["buoy"], lat=0.0, lon=0.0)
+        store_result(s, src, _records(times, efths), files=["obs"])
+        start = t_e
+        body = outlooks.compute_outlook(s, "beach-b", hours=14, start=start)
+    assert body.steps and all(st.input == "arrival-forecast" for st in body.steps)
+
+    def first_with(lo: float, hi: float) -> datetime:
+        return next(
+            st.time
+            for st in body.steps
+            if any(lo <= w.period_s <= hi and w.height_m > 0.3 for w in st.swells)
+        )
+
+    for period, (lo, hi) in ((16.0, (14.0, 18.5)), (8.0, (7.0, 9.0))):
+        delay = timedelta(seconds=200_000.0 / (G * period / (4 * math.pi)))
+        # linear interpolation between hourly observations: the train shows within an hour of t_e + delay
+        got = first_with(lo, hi)
+        assert t_e + delay - timedelta(hours=1) < got <= t_e + delay + timedelta(hours=1), (period, got)
+    assert first_with(14.0, 18.5) < first_with(7.0, 9.0)
+
+
+def test_cache_unchanged_inputs_do_no_work_and_new_observations_recompute_only_their_spots(
+    migrated_db: str, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    calls: list[str] = []
+    real = outlooks.compute_outlook
+
+    def counting(session, spot_id, **kw):  # type: ignore[no-untyped-def]
+        calls.append(spot_id)
+        return real(session, spot_id, **kw)
+
+    monkeypatch.setattr(outlooks, "compute_outlook", counting)
+    issue = T0 - timedelta(hours=6)
+    with session_scope(migrated_db) as s:
+        a, b = _source(s, "feed-a"), _source(s, "feed-b")
+        _spot(s, "spot-a", ["feed-a"])
+        _spot(s, "spot-b", ["feed-b"])
+        store_result(
+            s, a, _records(fx.hours(T0, 3), [fx.swell(1.0, 10.0, 270.0)] * 3, issue=issue), files=["a"]
+        )
+        store_result(
+            s, b, _records(fx.hours(T0, 3), [fx.swell(1.5, 11.0, 265.0)] * 3, issue=issue), files=["b"]
+        )
+    with session_scope(migrated_db) as s:
+        first_a = outlooks.get_outlook(s, "spot-a", hours=2, start=T0)
+        outlooks.get_outlook(s, "spot-b", hours=2, start=T0)
+    with session_scope(migrated_db) as s:
+        again = outlooks.get_outlook(s, "spot-a", hours=2, start=T0)
+        outlooks.get_outlook(s, "spot-b", hours=2, start=T0)
+        assert outlooks.refresh_stale(s) == []
+    assert calls == ["spot-a", "spot-b"]  # the repeat did no work
+    assert again.model_dump(mode="json") == first_a.model_dump(mode="json")
+    # another unit is another variant: computed once
+    with session_scope(migrated_db) as s:
+        outlooks.get_outlook(s, "spot-a", hours=2, start=T0, units="imperial")
+    assert calls[-1] == "spot-a" and len(calls) == 3
+    # a new issue for feed-a marks spot-a's outlooks stale; the refresh recomputes only them
+    with session_scope(migrated_db) as s:
+        a = s.get(Source, "feed-a")
+        new = T0 - timedelta(hours=1)
+        store_result(
+            s, a, _records(fx.hours(T0, 3), [fx.swell(2.5, 13.0, 275.0)] * 3, issue=new), files=["a2"]
+        )
+        stale = {(r.spot_id, r.stale) for r in s.query(OutlookCache)}
+        assert ("spot-a", True) in stale and ("spot-b", False) in stale
+    with session_scope(migrated_db) as s:
+        assert outlooks.refresh_stale(s) == ["spot-a"]
+        fresh = outlooks.get_outlook(s, "spot-a", hours=2, start=T0)
+    assert calls[3:] == ["spot-a", "spot-a"]  # both variants of spot-a, nothing of spot-b
+    assert fresh.steps[0].offshore.hm0_m == pytest.approx(2.5, abs=0.1)
+    assert fresh.steps[0].issued == new
+
+
+def test_missing_tables_and_unknown_spot_are_clear_errors(migrated_db: str) -> None:
+    from app.errors import Conflict, NotFound
+
+    with session_scope(migrated_db) as s:
+        with pytest.raises(NotFound, match="no-such-spot"):
+            outlooks.compute_outlook(s, "no-such-spot", start=T0)
+        _spot(s, "bare", [], ys=())
+        with pytest.raises(Conflict, match="tables build bare"):
+            outlooks.compute_outlook(s, "bare", start=T0)
+        _spot(s, "nofeed", [])
+        body = outlooks.compute_outlook(s, "nofeed", start=T0)
+        assert body.steps == [] and any("no sources" in n for n in body.notes)
+        assert s.query(Observation).count() == 0
+
+
+def test_outlook_command_prints_a_table_with_cautions_and_json(
+    migrated_db: str, capsys: pytest.CaptureFixture[str]
+) -> None:
+    from app.commands import outlook as cmd
+
+    with session_scope(migrated_db) as s:
+        src = _source(s, "model")
+        _spot(s, "beach-c", ["model"], ys=(300.0, 0.0, -300.0))
+        store_result(
+            s, src, _records(fx.hours(T0, 3), [fx.swell(1.0, 10.0, 290.0)] * 3, issue=T0), files=["a"]
+        )
+    import argparse
+
+    parser = argparse.ArgumentParser()
+    cmd.register(parser.add_subparsers())
+    args = parser.parse_args(["outlook", "beach-c", "--hours", "2", "--from", "2030-01-01T00:00:00Z"])
+    assert args.func(args) == 0
+    out = capsys.readouterr().out
+    assert "typ/sets/max" in out and "closeout" in out and "lifeguards" in out
+    args = parser.parse_args(
+        ["outlook", "beach-c", "--hours", "2", "--from", "2030-01-01T00:00:00Z", "--json"]
+    )
+    assert args.func(args) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["spot_id"] == "beach-c" and len(data["steps"]) == 3 and data["units"] == "metric"
