@@ -88,7 +88,7 @@ COEFFICIENT_DIRECTIONS_DEG = np.arange(0.0, 360.0, 5.0)
 DIRECTIONAL_METHOD = "mem"
 LARGEST_WINDOW_S = 3600.0  # "largest wave in an hour"
 SETS_FRACTION = 10  # sets = H1/10
-MIN_HEIGHT_M = 0.01  # below this a class does not break (a blocked or empty train): null
+MIN_HEIGHT_M = 0.05  # nearshore height below which a class is not surf (a blocked or empty train): null
 MAX_ANGLE_DEG = (
     85.0  # nearshore direction to the contour normal is clipped here (shoal_to_breaking needs < 90)
 )

@@ -1,0 +1,122 @@
+"""Agency hazards from cached outlooks: current level, highest in the horizon and its onset, version.
+
+Outside values: none beyond the agency's own thresholds (set here); the current-step and onset rules
+are models.hazard.hazard_summary's (checked in tests/models/test_hazard.py).
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import json
+import sys
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from app.db.session import session_scope
+from app.db.tables import Agency, HazardPolicy
+from app.ingest.store import store_result
+from app.services import hazards, outlooks
+
+_spec = importlib.util.spec_from_file_location("_outlook_tests", Path(__file__).with_name("test_outlooks.py"))
+ot = importlib.util.module_from_spec(_spec)
+sys.modules.setdefault("_outlook_tests", ot)
+_spec.loader.exec_module(ot)
+fx = ot.fx
+
+T0 = datetime(2030, 6, 1, 0, tzinfo=UTC)
+LEVELS = [
+    {"level": 0, "label": "open"},
+    {"level": 1, "label": "care", "set_height_m": 1.0},
+    {"level": 2, "label": "danger", "set_height_m": 2.0},
+    {"level": 3, "label": "closed", "set_height_m": 3.5},
+]
+
+
+def _setup(s, hs_by_hour: list[float]) -> None:
+    src = ot._source(s, "model")
+    ot._spot(s, "beach-h", ["model"])
+    ot._spot(s, "beach-i", [])  # no source: reported with a note, the others go on
+    s.add(Agency(id="guards", name="Guards", spots=["beach-h", "beach-i", "beach-missing"], alert_level=2))
+    s.add(HazardPolicy(agency_id="guards", spot_key="", levels=LEVELS))
+    s.flush()
+    times = fx.hours(T0, len(hs_by_hour))
+    efth = [fx.swell(h, 10.0, 270.0) for h in hs_by_hour]
+    store_result(s, src, ot._records(times, efth, issue=T0 - timedelta(hours=3)), files=["f"])
+
+
+def test_current_level_highest_in_horizon_and_onset(migrated_db: str) -> None:
+    # sets breaker heights grow with Hs: 0.4 m offshore stays below 1 m sets, 1.6 m is above 2 m
+    hs = [0.4, 0.4, 0.4, 0.8, 0.8, 1.6, 1.6, 1.6, 0.4, 0.4]
+    with session_scope(migrated_db) as s:
+        _setup(s, hs)
+        now = T0 + timedelta(minutes=30)
+        body = outlooks.get_outlook(s, "beach-h", hours=72, start=T0, agency_id="guards")
+        levels = [st.hazard.level for st in body.steps]
+        sets = [st.breaker_height_m.sets for st in body.steps]
+        result = hazards.agency_hazards(s, "guards", horizon_hours=6, now=now)
+        longer = hazards.agency_hazards(s, "guards", horizon_hours=2, now=now)
+    # thresholds: levels follow the set breaker height (rounded values shown; none sits on a threshold)
+    assert levels == [sum(h >= t for t in (1.0, 2.0, 3.5)) for h in sets]
+    assert levels[0] == 0 and max(levels) == 2
+    by_id = {h.spot_id: h for h in result.spots}
+    h = by_id["beach-h"]
+    assert (h.level, h.label) == (0, "open")
+    assert (h.max_level, h.max_label) == (2, "danger")
+    assert h.onset == T0 + timedelta(hours=levels.index(2))  # the first step at the highest level
+    assert h.valid_until is not None and h.valid_until <= T0 + timedelta(hours=len(hs) - 1)
+    assert h.policy == "guards default" and h.policy_is_default is False
+    k = longer.spots[0]
+    assert k.max_level == max(levels[:3]) and k.onset == T0  # horizon 2 h: still calm, onset now
+    assert by_id["beach-i"].level is None and "no offshore spectra" in by_id["beach-i"].note
+    assert by_id["beach-missing"].level is None and "beach-missing" in by_id["beach-missing"].note
+    data = result.model_dump(mode="json")
+    json.dumps(data, allow_nan=False)
+    assert data["spots"][0]["onset"].endswith("Z") and data["cautions"]
+    assert all(x["cautions"] for x in data["spots"])
+
+
+def test_version_changes_with_inputs_only(migrated_db: str) -> None:
+    with session_scope(migrated_db) as s:
+        _setup(s, [0.5, 0.5, 0.5])
+        now = T0 + timedelta(minutes=10)
+        v1 = hazards.hazard_version(s, "guards", now=now)
+        assert hazards.hazard_version(s, "guards", now=now + timedelta(minutes=20)) == v1  # same hour
+        src = s.get(ot.Source, "model")
+        times = fx.hours(T0, 3)
+        store_result(s, src, ot._records(times, [fx.swell(2.0, 12.0, 270.0)] * 3, issue=T0), files=["g"])
+        v2 = hazards.hazard_version(s, "guards", now=now)
+        assert v2 != v1
+        row = s.query(HazardPolicy).one()
+        row.levels = [dict(lv) for lv in LEVELS[:1]] + [
+            dict(lv, set_height_m=lv["set_height_m"] + 0.5) for lv in LEVELS[1:]
+        ]
+        row.updated_at = row.updated_at + timedelta(seconds=1)
+        s.flush()
+        assert hazards.hazard_version(s, "guards", now=now) != v2
+        assert hazards.hazard_version(s, "guards", now=now + timedelta(hours=1)) != hazards.hazard_version(
+            s, "guards", now=now
+        )
+
+
+def test_hazards_use_the_cache(migrated_db: str, monkeypatch: pytest.MonkeyPatch) -> None:
+    calls: list[str] = []
+    real = outlooks.compute_outlook
+
+    def counting(session, spot_id, **kw):  # type: ignore[no-untyped-def]
+        calls.append(spot_id)
+        return real(session, spot_id, **kw)
+
+    monkeypatch.setattr(outlooks, "compute_outlook", counting)
+    with session_scope(migrated_db) as s:
+        _setup(s, [0.5, 1.5, 0.5])
+    now = T0 + timedelta(minutes=5)
+    with session_scope(migrated_db) as s:
+        a = hazards.agency_hazards(s, "guards", horizon_hours=2, now=now)
+    with session_scope(migrated_db) as s:
+        b = hazards.agency_hazards(s, "guards", horizon_hours=2, now=now)
+    assert calls.count("beach-h") == 1
+    assert a.model_dump(mode="json") == b.model_dump(mode="json")
+    assert np.isfinite(a.horizon_hours)
