@@ -193,6 +193,22 @@ def prepare_offshore(
     )  # fmt: skip
 
 
+_LARGEST: dict[float, float] = {}
+
+
+def _largest_ratio(n_waves: NDArray[np.float64]) -> NDArray[np.float64]:
+    """E[Hmax]/Hm0 for N waves (Rayleigh, `expected_max_height_ratio`), memoised on whole N:
+    the exact integral costs a quadrature per value and N repeats across steps and spots."""
+    uniq, inv = np.unique(n_waves, return_inverse=True)
+    missing = [v for v in uniq.tolist() if v not in _LARGEST]
+    if missing:
+        for v, r in zip(
+            missing, expected_max_height_ratio(np.asarray(missing), reference="hm0").tolist(), strict=True
+        ):
+            _LARGEST[v] = r
+    return np.array([_LARGEST[v] for v in uniq.tolist()])[inv].reshape(n_waves.shape)
+
+
 @dataclass
 class SpotArrays:
     """Results for one spot over the steps of one batch. Shapes: P points, T steps, K trains."""
@@ -263,7 +279,7 @@ def compute_spots(
             np.maximum(1.0, np.round(LARGEST_WINDOW_S / np.where(np.isfinite(tm02), tm02, 1.0))),
             1.0,
         )
-        largest_ratio = expected_max_height_ratio(n_waves, reference="hm0")  # (P, T)
+        largest_ratio = _largest_ratio(n_waves)  # (P, T)
         h = np.empty((P, nt, ncls))
         h[..., 0] = hs[..., 0]
         h[..., 1] = hs[..., 0] * SETS_RATIO
