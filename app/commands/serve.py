@@ -1,0 +1,40 @@
+"""`shoalcast serve`: the REST API under uvicorn (app factory), optionally with the in-process scheduler."""
+
+from __future__ import annotations
+
+import argparse
+import os
+
+
+def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
+    p = sub.add_parser("serve", help="serve the REST API (uvicorn)")
+    p.add_argument("--host", default="127.0.0.1")
+    p.add_argument("--port", type=int, default=8000)
+    p.add_argument("--workers", type=int, default=1, help="uvicorn worker processes (stateless; one scheduler at most)")
+    p.add_argument("--no-scheduler", action="store_true",
+                   help="do not run the scheduler in-process (run `shoalcast worker` instead)")
+    p.add_argument("--migrate", action="store_true", help="upgrade the database schema before serving")
+    p.set_defaults(func=_run)
+
+
+def _run(args: argparse.Namespace) -> int:
+    import uvicorn
+
+    from app.commands.common import database_url, ready_database
+    from app.config import get_settings
+
+    if args.no_scheduler:
+        os.environ["SHOALCAST_SCHEDULER_ENABLED"] = "false"  # inherited by the workers
+        get_settings.cache_clear()
+    if args.migrate:
+        from app.db import migrate
+
+        migrate.upgrade(database_url())
+    ready_database()
+    if args.workers < 1:
+        from app.errors import BadInput
+
+        raise BadInput("`--workers` must be at least 1", field="workers")
+    uvicorn.run("app.api.main:create_app", factory=True, host=args.host, port=args.port, workers=args.workers,
+                log_level="info", proxy_headers=False)
+    return 0
