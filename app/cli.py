@@ -10,7 +10,7 @@ import sys
 from app.errors import BadInput, ShoalcastError
 
 # one module per command group in app/commands/
-COMMANDS = ("db", "spot", "source", "ingest", "agency", "tables", "worker")
+COMMANDS = ("db", "spot", "source", "ingest", "agency", "tables", "outlook", "hazards", "worker")
 
 
 def build_parser() -> argparse.ArgumentParser:
