@@ -18,6 +18,7 @@ from data, so the generator cuts at whitespace only.
 
 from __future__ import annotations
 
+import os
 from datetime import UTC, datetime, timedelta
 
 import numpy as np
@@ -128,7 +129,7 @@ def _text(lines):
     return "\n".join([head] + ["  ".join(toks) for toks, _, _ in rows]) + "\n"
 
 
-@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=int(os.environ.get("SHOALCAST_FUZZ_EXAMPLES", "120")), deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(damaged_sets())
 def test_damaged_historical_sets_give_good_rows_and_rejects(case):
     values, files, damaged, n = case
