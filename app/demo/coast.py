@@ -15,7 +15,10 @@ depth positive down and land <= 0, built from analytic shapes:
   of the depth, none in the surf zone), so the grids look like survey data but stay deterministic.
 
 The coast faces west (seaward normal 270°); the deep (~80-100 m) open-ocean edges are west, north
-and south. Files are written the way a user would have them: ESRI ASCII depth grids in local metres
+and south. The bay is different: its beach faces north-north-west behind Tavish Isle (a long rocky
+island with a hook at its north end) and a headland that hides the sound between them, all on a
+flat 24 m floor, so swell crosses the bay in straight lines and only the land decides what gets in:
+west and south-west swell is shut out, north-west swell comes straight in. Files are written the way a user would have them: ESRI ASCII depth grids in local metres
 for three spots and a GEBCO-style NetCDF (``elevation``, negative below sea level, on a regular
 lat/lon grid) for the ridge.
 """
@@ -58,6 +61,8 @@ LAND_SLOPE = 1.0 / 20.0
 LAND_MIN_M = -25.0  # highest land [m above datum], clipped so grids stay small numbers
 BEACH_SLOPE = 1.0 / 55.0  # the exposed beach: one plain slope out to ~95 m at the grid's west edge
 BREAK_DEPTH_M = 2.5  # break points sit on this contour
+PERIOD_MIN_S, PERIOD_MAX_S, PERIOD_COUNT = 5.0, 20.0, 12  # table periods of the demo profiles
+LAUNCH_SPACING_DEG = 0.25
 
 
 @dataclass(frozen=True)
@@ -142,15 +147,17 @@ SPOTS: tuple[DemoSpot, ...] = (
         kind="bay",
         latitude=-41.780,
         longitude=_LON,
-        faces_deg=290.0,
-        description="A bay behind Tavish Isle: sheltered from west and south-west swell, open to the north-west.",
+        faces_deg=330.0,
+        description=("A bay behind Tavish Isle, opening north-north-west: sheltered from west and south-west "
+                     "swell, open to the north-west."),
         file_format="esri-ascii",
-        x_range=(-5300.0, 2300.0),
-        y_range=(-3500.0, 3000.0),
+        x_range=(-3700.0, 2300.0),
+        y_range=(-3300.0, 3900.0),
         spacing_m=40.0,
+        # break lines run toward 150° (square to the beach)
         break_lines=(
-            ("south corner", (800.0, -300.0), (2300.0, -300.0)),
-            ("bay centre", (800.0, 200.0), (2300.0, 200.0)),
+            ("bay centre", (500.0, 716.0), (1250.0, -583.0)),
+            ("east end", (1200.0, 1120.0), (1950.0, -179.0)),
         ),
     ),
     DemoSpot(
@@ -190,15 +197,48 @@ def _land_ridge(x, y):
     return x >= 900.0 + 40.0 * np.sin(y / 900.0)
 
 
+# The bay: a beach facing north-north-west behind an island, on a flat floor. Flat, so swell
+# crosses the bay in straight lines and only the island and the headland decide what gets in
+# (a shelf deepening seaward would bend long-period swell round the island's tips).
+BAY_FLOOR_M = 24.0
+BAY_SHORE_SLOPE = 1.0 / 15.0
+BAY_ISLAND_SLOPE = 1.0 / 4.0
+BAY_ISLAND = ((-1700.0, -850.0), (-1300.0, 1350.0))  # Tavish Isle's south and north tips [m]
+BAY_ISLAND_HALF_WIDTH_M = 380.0
+BAY_STACK = (-2650.0, 1600.0, 450.0)  # a rock stack west of the island's north tip: x, y, radius [m]
+
+
+def _bay_coast_y(x):
+    """The mainland's shoreline y(x): a straight coast running 60°/240° through (1000, -150)
+    with a headland west of the bay (around x = -500 m)."""
+    return -150.0 + math.tan(math.radians(30.0)) * (x - 1000.0) + 1000.0 * _gauss((x + 500.0) / 500.0)
+
+
+def _bay_island(x, y):
+    (x0, y0), (x1, y1) = BAY_ISLAND
+    cx, cy = (x0 + x1) / 2, (y0 + y1) / 2
+    half = math.hypot(x1 - x0, y1 - y0) / 2
+    ux, uy = (x1 - x0) / (2 * half), (y1 - y0) / (2 * half)
+    along = (x - cx) * ux + (y - cy) * uy
+    across = -(x - cx) * uy + (y - cy) * ux
+    body = (along / half) ** 2 + (across / BAY_ISLAND_HALF_WIDTH_M) ** 2 <= 1.0
+    # a hook at the north end, from the tip west to a rounded knoll: it catches west swell
+    # bent round the tip
+    sx, sy, sr = BAY_STACK
+    knoll = (x - sx) ** 2 + (y - sy) ** 2 <= sr**2
+    vx, vy = sx - x1, sy - y1
+    t = np.clip(((x - x1) * vx + (y - y1) * vy) / (vx * vx + vy * vy), 0.0, 1.0)
+    neck = (x - x1 - t * vx) ** 2 + (y - y1 - t * vy) ** 2 <= 160.0**2
+    return body | knoll | neck
+
+
 def _land_bay(x, y):
-    """Mainland with a bay (shore pushed east round y = 0), a south arm and an offshore island."""
-    shore = 2000.0 - 500.0 * _gauss(y / 1600.0)
-    mainland = x >= shore
-    # south arm: a low spit running west from the mainland along y ~ -1900 m
-    arm = (np.abs(y + 2300.0) <= 220.0) & (x >= -300.0)
-    # the island (Tavish Isle), long north-south, west of the bay: the bay opens only to the north-west
-    island = ((x + 900.0) / 450.0) ** 2 + ((y + 400.0) / 1750.0) ** 2 <= 1.0
-    return mainland | arm | island
+    """Mainland south-east of the coast line (with its headland) and Tavish Isle off the headland.
+
+    Seen from the bay beach the headland hides the sound between it and the island, and the
+    island covers the bearings from the headland up to about 290-300°: west and south-west swell
+    has no straight way in, north-west swell has."""
+    return (y <= _bay_coast_y(x)) | _bay_island(x, y)
 
 
 def _land_beach(x, y):
@@ -208,11 +248,11 @@ def _land_beach(x, y):
 _LAND: dict[str, Callable] = {"point": _land_point, "ridge": _land_ridge, "bay": _land_bay, "beach": _land_beach}
 
 
-def _shelf(signed_distance):
-    """Depth [m] from signed distance to the shore [m] (positive at sea): slope SHORE_SLOPE at the
-    waterline, levelling off toward SHELF_DEPTH_M; land rises at LAND_SLOPE up to -LAND_MIN_M."""
+def _shelf(signed_distance, slope=SHORE_SLOPE, depth=SHELF_DEPTH_M):
+    """Depth [m] from signed distance to the shore [m] (positive at sea): `slope` at the
+    waterline, levelling off toward `depth`; land rises at LAND_SLOPE up to -LAND_MIN_M."""
     d = np.asarray(signed_distance, dtype=float)
-    sea = SHELF_DEPTH_M * np.tanh(SHORE_SLOPE * np.maximum(d, 0.0) / SHELF_DEPTH_M)
+    sea = depth * np.tanh(slope * np.maximum(d, 0.0) / depth)
     land = np.maximum(LAND_SLOPE * np.minimum(d, 0.0), LAND_MIN_M)
     return np.where(d >= 0.0, sea, land)
 
@@ -254,6 +294,17 @@ def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np
     sd = FINE_M * (ndimage.distance_transform_edt(~land) - ndimage.distance_transform_edt(land))
     sd = ndimage.gaussian_filter(sd, sigma=60.0 / FINE_M, mode="nearest")
     sd_at = RegularGridInterpolator((fy, fx), sd, bounds_error=False, fill_value=None)
+    island_at = None
+    if spot.kind == "bay":
+        # the island's own distance field: its sides are steep (a rocky island), so little swell
+        # is bent round its tips
+        def field(mask):
+            d = FINE_M * (ndimage.distance_transform_edt(~mask) - ndimage.distance_transform_edt(mask))
+            d = ndimage.gaussian_filter(d, sigma=60.0 / FINE_M, mode="nearest")
+            return RegularGridInterpolator((fy, fx), d, bounds_error=False, fill_value=None)
+
+        island_at = field(_bay_island(gx, gy))
+        sd_at = field(gy <= _bay_coast_y(gx))  # the mainland alone
     noise = _noise_field(SEED + sum(map(ord, spot.id)))
 
     def depth(x, y):
@@ -264,7 +315,11 @@ def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np
             # parallel, and depth rises monotonically offshore everywhere
             bumps = 0.2 * noise(x, np.zeros_like(x)) * _smoothstep(BEACH_SLOPE * sd_xy, 6.0, 15.0)
             return np.where(sd_xy >= 0.0, BEACH_SLOPE * sd_xy + bumps, _shelf(sd_xy))
-        h = _shelf(sd_xy)
+        if spot.kind == "bay":
+            sdi = island_at(np.stack([y.ravel(), x.ravel()], axis=-1)).reshape(x.shape)
+            h = np.minimum(_shelf(sd_xy, BAY_SHORE_SLOPE, BAY_FLOOR_M), _shelf(sdi, BAY_ISLAND_SLOPE, BAY_FLOOR_M))
+        else:
+            h = _shelf(sd_xy)
         if spot.kind == "ridge":
             # crest along y = 0 running out to sea: shallower than its flanks by up to ~45 %, and
             # reaching the beach as a shoal, so the nearshore contours bulge seaward at the peak
@@ -416,7 +471,11 @@ def _profile_toml(spot: DemoSpot, points, sources) -> str:
     ]
     for name, x, y in points:
         lines += ["", "[[break_points]]", f"name = {_toml_str(name)}", f"x = {x:.1f}", f"y = {y:.1f}"]
-    lines += ["", "[model]", f"reference_depth_m = {spot.reference_depth_m:.1f}", ""]
+    # table options sized for a quick demo build: 12 periods 5-20 s cover the demo's swells and
+    # wind sea; 0.25° launch spacing keeps sheltered directions clean
+    lines += ["", "[model]", f"reference_depth_m = {spot.reference_depth_m:.1f}",
+              f"period_min_s = {PERIOD_MIN_S:g}", f"period_max_s = {PERIOD_MAX_S:g}", f"period_count = {PERIOD_COUNT}",
+              f"launch_spacing_deg = {LAUNCH_SPACING_DEG:g}", ""]
     return "\n".join(lines)
 
 
