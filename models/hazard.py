@@ -118,7 +118,7 @@ class HazardPolicy:
                 )
             except KeyError:
                 raise InvalidInput(f"`policy.levels[{i}].label` is required") from None
-            except (TypeError, ValueError) as exc:
+            except (TypeError, ValueError, OverflowError) as exc:
                 raise InvalidInput(f"`policy.levels[{i}]`: {exc}") from None
         return cls(
             name=str(data.get("name", "policy")),

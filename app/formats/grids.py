@@ -181,7 +181,7 @@ def parse_esri_ascii(text: str, *, name: str = "<text>", crs: Crs = "local") -> 
             ti += 2
         if data_start is not None:
             break
-    data_line = data_start[0] + 1 if data_start else len(lines)
+    data_line = data_start[0] + 1 if data_start else (len(lines) or None)  # None: the file is empty
 
     def number(key: str, *, integer: bool = False, positive: bool = False) -> float:
         raw, ln = header[key]
@@ -615,6 +615,10 @@ def parse_xyz(
         if not (math.isfinite(spacing) and spacing > 0):
             raise ValueError(f"`spacing_m` must be a positive length [m], got {spacing_m!r}")
     (xmin, ymin), (xmax, ymax) = xy.min(axis=0), xy.max(axis=0)
+    with np.errstate(over="ignore", invalid="ignore"):
+        spans = (float(xmax - xmin) / spacing, float(ymax - ymin) / spacing)
+    if not all(math.isfinite(v) for v in spans) or not math.isfinite(spacing):
+        raise GridError(name, "soundings span more than a grid can hold (positions out of range)")
     nx = int(math.floor((xmax - xmin) / spacing + 1e-9)) + 1
     ny = int(math.floor((ymax - ymin) / spacing + 1e-9)) + 1
     if nx < 2 or ny < 2:

@@ -3,18 +3,17 @@
 from __future__ import annotations
 
 import ipaddress
-import tomllib
+import socket
 from pathlib import Path
 from urllib.parse import urlsplit
 
-from pydantic import ValidationError
 from sqlalchemy import func, select
 from sqlalchemy.orm import Session, selectinload
 
 from app.db.tables import Observation, Source, SourceHealth
 from app.errors import BadInput, NotFound
-from app.schemas.profile import describe_validation_error
 from app.schemas.sources import SourceConfig, SourceHealthPublic, SourcePublic
+from app.schemas.toml import load_toml_model
 
 __all__ = ["add_source", "check_remote_url", "get_source", "list_sources", "load_source_toml", "source_public"]
 
@@ -22,16 +21,7 @@ __all__ = ["add_source", "check_remote_url", "get_source", "list_sources", "load
 def load_source_toml(path: Path | str) -> SourceConfig:
     """Read SOURCE.toml; `paths` become file:// URLs relative to the file's folder."""
     path = Path(path)
-    try:
-        raw = tomllib.loads(path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError) as exc:
-        raise BadInput(f"{path.name}: cannot read: {exc}") from exc
-    except tomllib.TOMLDecodeError as exc:
-        raise BadInput(f"{path.name}: not valid TOML: {exc}") from exc
-    try:
-        config = SourceConfig.model_validate(raw)
-    except ValidationError as exc:
-        raise BadInput(describe_validation_error(exc, where=path.name)) from exc
+    config = load_toml_model(path, SourceConfig)
     if config.paths:
         base = path.parent.resolve()
         urls = list(config.urls) + [(base / p).resolve().as_uri() for p in config.paths]
@@ -41,18 +31,33 @@ def load_source_toml(path: Path | str) -> SourceConfig:
 
 def check_remote_url(url: str) -> None:
     """Refuse file:// and loopback/private targets (for sources added through the API)."""
-    parts = urlsplit(url)
+    try:
+        parts = urlsplit(url)
+        host = (parts.hostname or "").lower().rstrip(".")
+    except ValueError as exc:  # e.g. "Invalid IPv6 URL"
+        raise BadInput(f"URL {url!r}: {exc}", field="urls") from exc
     if parts.scheme not in ("http", "https"):
         raise BadInput(f"URL {url!r}: only http and https are allowed here", field="urls")
-    host = (parts.hostname or "").lower()
     if not host or host == "localhost" or host.endswith(".localhost"):
         raise BadInput(f"URL {url!r}: loopback targets are not allowed", field="urls")
-    try:
-        ip = ipaddress.ip_address(host)
-    except ValueError:
+    ip = _ip_of(host)
+    if ip is None:
         return
     if ip.is_loopback or ip.is_private or ip.is_link_local or ip.is_unspecified or ip.is_multicast:
         raise BadInput(f"URL {url!r}: loopback and private addresses are not allowed", field="urls")
+
+
+def _ip_of(host: str) -> ipaddress.IPv4Address | ipaddress.IPv6Address | None:
+    """The address a literal host names, in any spelling the resolver accepts (127.1, 0x7f000001,
+    2130706433, ...); None for a DNS name."""
+    try:
+        return ipaddress.ip_address(host)
+    except ValueError:
+        pass
+    try:
+        return ipaddress.IPv4Address(socket.inet_aton(host))
+    except OSError:
+        return None
 
 
 def add_source(session: Session, config: SourceConfig, *, remote_only: bool = False) -> Source:

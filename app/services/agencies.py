@@ -2,17 +2,15 @@
 
 from __future__ import annotations
 
-import tomllib
 from pathlib import Path
 
-from pydantic import ValidationError
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from app.db.tables import Agency, HazardPolicy
 from app.errors import BadInput, NotFound
 from app.schemas.agencies import AgencyConfig, AgencyPublic, PolicySpec
-from app.schemas.profile import describe_validation_error
+from app.schemas.toml import load_toml_model
 from models.errors import InvalidInput
 from models.hazard import DEFAULT_POLICY
 from models.hazard import HazardPolicy as Policy
@@ -21,17 +19,7 @@ __all__ = ["add_agency", "agency_public", "get_agency", "list_agencies", "load_a
 
 
 def load_agency_toml(path: Path | str) -> AgencyConfig:
-    path = Path(path)
-    try:
-        raw = tomllib.loads(path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError) as exc:
-        raise BadInput(f"{path.name}: cannot read: {exc}") from exc
-    except tomllib.TOMLDecodeError as exc:
-        raise BadInput(f"{path.name}: not valid TOML: {exc}") from exc
-    try:
-        return AgencyConfig.model_validate(raw)
-    except ValidationError as exc:
-        raise BadInput(describe_validation_error(exc, where=path.name)) from exc
+    return load_toml_model(path, AgencyConfig)
 
 
 def _checked(spec: PolicySpec, *, name: str, where: str) -> list[dict]:

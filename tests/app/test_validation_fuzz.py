@@ -4,9 +4,10 @@ GridError for bathymetry text) whose message names a field or a line — never a
 Plus path-escape attempts that `load_profile` must refuse.
 
 Inputs are a valid document with random mutations (keys dropped, values replaced by any TOML value,
-unknown keys added) written out as TOML text, and plain random text. Known defects found here are
-pinned by the strict-xfail tests at the end (they start passing, and so fail, once fixed); the
-fuzz strategies leave out exactly those inputs, as each comment says.
+unknown keys added) written out as TOML text, and plain random text. The defects this fuzzing found
+(loopback in inet_aton spellings, an unbalanced IPv6 bracket, an infinite policy level, soundings
+beyond the float range, "line 0" for an empty grid file) are fixed and pinned by the regression
+tests at the end.
 """
 
 from __future__ import annotations
@@ -209,8 +210,7 @@ def test_mutated_sources_validate_or_name_the_field(scratch, doc):
         assert all(u.lower().startswith(("http://", "https://", "file://")) for u in got.urls)
 
 
-# Hosts a resolver maps to loopback even though they do not look like 127.0.0.1 (inet_aton forms):
-# left out of the fuzz until check_remote_url refuses them (see the xfail test below).
+# Hosts a resolver maps to loopback even though they do not look like 127.0.0.1 (inet_aton forms).
 _ODD_IPV4 = st.sampled_from(["127.1", "2130706433", "0x7f000001", "0", "127.0.0.1."])
 URLS = st.one_of(
     st.text(max_size=40),
@@ -224,8 +224,7 @@ URLS = st.one_of(
 
 
 @FUZZ
-@given(URLS.filter(lambda u: "[" not in u and "]" not in u or u.count("[") == u.count("]") == 1 and
-                   u.index("[") < u.index("]")))  # unbalanced brackets: see the xfail test below
+@given(st.one_of(URLS, _ODD_IPV4.map(lambda h: f"http://{h}/feed")))
 def test_remote_url_check_refuses_or_allows_never_crashes(url):
     try:
         check_remote_url(url)
@@ -277,13 +276,8 @@ def test_mutated_agencies_validate_or_name_the_field(scratch, doc):
                 assert "`policy." in str(exc)
 
 
-def _infinite_level(path, value) -> bool:
-    # an infinite `level` crashes from_mapping with OverflowError: see the xfail test below
-    return path[-1] == "level" and isinstance(value, float) and math.isinf(value)
-
-
 @FUZZ
-@given(mutated(POLICY, exclude=_infinite_level))
+@given(mutated(POLICY))
 def test_mutated_policies_build_or_raise_invalid_input(doc):
     try:
         policy = HazardPolicy.from_mapping(doc)
@@ -348,17 +342,12 @@ def test_esri_ascii_text_parses_or_raises_grid_error(text):
     got = _grid_outcome(lambda t: parse_esri_ascii(t, name="fuzz.grid"), text)
     if isinstance(got, GridError) and got.line is not None:  # a line it names exists in the text
         n_lines = len(text.splitlines())
-        assert 1 <= got.line <= n_lines or got.line == n_lines == 0  # 0 for empty text: see xfail below
+        assert 1 <= got.line <= n_lines
         assert str(got).startswith(f"fuzz.grid:{got.line}: ")
 
 
-# Soundings that span more than ±1e308 overflow the grid size (OverflowError): see the xfail test.
-_HUGE = {"1e308", "-1e308"}
-
-
 @FUZZ
-@given(st.one_of(damaged_text(XYZ), st.text(alphabet="0123456789 .,-e\n#x", max_size=120))
-       .filter(lambda t: not any(h in t.split() for h in _HUGE)))
+@given(st.one_of(damaged_text(XYZ), st.text(alphabet="0123456789 .,-e\n#x", max_size=120)))
 def test_xyz_text_grids_or_raises_grid_error(text):
     got = _grid_outcome(lambda t: parse_xyz(t, name="fuzz.grid"), text)
     if isinstance(got, GridData):
@@ -430,48 +419,37 @@ def test_a_folder_or_missing_file_is_refused_by_name(spot_folder):
             load_profile(_profile(spot_folder, file))
 
 
-# ------------------------------------------------------------------------------ known defects (strict xfail)
+# ------------------------------------------------------------------------------ regressions (defects found by the fuzz)
 
 
-@pytest.mark.xfail(strict=True, raises=ValueError, reason="urlsplit's 'Invalid IPv6 URL' escapes as a bare "
-                   "ValueError instead of BadInput (app/ingest/sources.py check_remote_url)")
-def test_known_defect_unbalanced_bracket_url():
+def test_regression_unbalanced_bracket_url():
     with pytest.raises(BadInput):
         check_remote_url("http://[::1/x")
 
 
-@pytest.mark.xfail(strict=True, reason="check_remote_url accepts inet_aton forms of loopback (127.1, "
-                   "2130706433, 0x7f000001, 0, '127.0.0.1.') that the resolver maps to 127.0.0.1")
 @given(_ODD_IPV4)
 @settings(max_examples=5, deadline=None)
-def test_known_defect_loopback_in_other_spellings(host):
+def test_regression_loopback_in_other_spellings(host):
     with pytest.raises(BadInput):
         check_remote_url(f"http://{host}/feed")
 
 
-@pytest.mark.xfail(strict=True, raises=OverflowError, reason="HazardPolicy.from_mapping: int(inf) raises "
-                   "OverflowError, not InvalidInput (models/hazard.py catches only TypeError/ValueError)")
-def test_known_defect_infinite_level():
+def test_regression_infinite_level():
     doc = json.loads(json.dumps(POLICY))
     doc["levels"][1]["level"] = math.inf
     with pytest.raises(InvalidInput):
         HazardPolicy.from_mapping(doc)
 
 
-@pytest.mark.xfail(strict=True, raises=ValueError, reason="parse_xyz: soundings spanning more than the float "
-                   "range make the grid size inf/NaN; int(floor(...)) raises a bare ValueError/OverflowError, "
-                   "not GridError")
-def test_known_defect_soundings_spanning_the_float_range():
+def test_regression_soundings_spanning_the_float_range():
     import warnings
 
-    with pytest.raises(GridError), warnings.catch_warnings():  # GridError is a ValueError: XPASS if fixed
+    with pytest.raises(GridError), warnings.catch_warnings():
         warnings.simplefilter("ignore", RuntimeWarning)  # as in the service (no warnings-as-errors)
         parse_xyz("-1e308 0 5\n1e308 0 5\n0 1e308 5\n", name="fuzz.grid")
 
 
-@pytest.mark.xfail(strict=True, reason="parse_esri_ascii on empty text reports line 0 ('<file>:0: missing header "
-                   "key NCOLS'); lines are 1-based, so an empty file should give line None")
-def test_known_defect_empty_esri_text_says_line_0():
+def test_regression_empty_esri_text_says_line_0():
     with pytest.raises(GridError) as err:
         parse_esri_ascii("", name="fuzz.grid")
     assert err.value.line is None
