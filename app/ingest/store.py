@@ -23,6 +23,7 @@ from app.db.tables import Observation, OutlookCache, Reject, Source, SourceHealt
 from app.errors import BadInput, NotFound
 from app.formats.records import MetRecord, ParseResult, SpectrumRecord
 from app.formats.records import Reject as ParseReject
+from app.observability import FETCH_FAILURES, INGEST_RECORDS
 from app.schemas.sources import IngestReport
 
 __all__ = [
@@ -198,6 +199,9 @@ def store_result(session: Session, source: Source, result: ParseResult, *, files
     if report.stored or report.replaced:
         mark_outlooks_stale(session, source.id)
     session.flush()
+    for outcome in ("stored", "replaced", "unchanged", "rejected"):
+        if getattr(report, outcome):
+            INGEST_RECORDS.inc(getattr(report, outcome), source=source.id, outcome=outcome)
     return report
 
 
@@ -209,6 +213,7 @@ def record_failure(session: Session, source_id: str, message: str) -> None:
     health.last_error = _clean(message, 2000)
     health.last_error_at = now
     session.flush()
+    FETCH_FAILURES.inc(source=source_id)
 
 
 def mark_outlooks_stale(session: Session, source_id: str) -> list[str]:

@@ -25,6 +25,7 @@ from sqlalchemy.orm import Session, selectinload
 from app.db.session import session_scope
 from app.db.tables import BreakPoint, Spot, TransferTableRow, utcnow
 from app.errors import BadInput, NotFound
+from app.observability import TABLE_BUILDS
 from app.services.spots import depth_grid_of
 from models import transfer
 from models.errors import InvalidInput
@@ -182,10 +183,12 @@ def build_tables(
             )  # fmt: skip
         except InvalidInput as exc:
             report.failed.extend({"spot": spot_id, "point": t.point_name, "reason": str(exc)} for t in ok)
+            TABLE_BUILDS.inc(len(ok), outcome="failed")
             continue
         seconds = (time.perf_counter() - t_spot) / len(ok)
         for t, (xr, yr), table in zip(ok, refs, tables, strict=True):
             _store(url, t, table, seconds=seconds, reference=(xr, yr))
+            TABLE_BUILDS.inc(outcome="ok")
             report.built.append({"spot": spot_id, "point": t.point_name, "seconds": round(seconds, 2),
                                  "lost_fraction": round(table.lost_fraction, 5)})
     report.seconds = round(time.perf_counter() - t0, 2)
