@@ -13,6 +13,9 @@ from app.errors import BadInput, ShoalcastError
 COMMANDS = ("db", "spot", "source", "ingest", "agency", "tables", "outlook", "hazards", "worker")
 
 
+_SERVICES = ("worker", "serve")
+
+
 def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="shoalcast",
@@ -30,7 +33,13 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
-    logging.basicConfig(level=logging.INFO if args.verbose else logging.WARNING, format="%(levelname)s %(name)s: %(message)s")
+    if args.command in _SERVICES:  # long-running: structured logs (JSON with SHOALCAST_LOG_JSON=true)
+        from app.config import get_settings
+        from app.observability import configure_logging
+
+        configure_logging(get_settings())
+    else:
+        logging.basicConfig(level=logging.INFO if args.verbose else logging.WARNING, format="%(levelname)s %(name)s: %(message)s")
     try:
         return int(args.func(args) or 0)
     except BadInput as exc:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import logging
 import signal
 import threading
+import uuid
 from datetime import UTC, datetime, timedelta
 from typing import Any
 
@@ -24,6 +25,7 @@ from app.db.session import session_scope
 from app.db.tables import Source
 from app.ingest.fetch import FetchOutcome, fetch_source
 from app.ingest.lock import scheduler_lock
+from app.observability import bind
 
 __all__ = ["RESYNC_JOB_ID", "Worker", "build_scheduler", "poll_source", "refresh_outlooks", "run_worker", "sync_jobs"]
 
@@ -60,6 +62,11 @@ def refresh_outlooks(database_url: str) -> None:
 def poll_source(database_url: str, source_id: str) -> FetchOutcome | None:
     """The job: one poll of one source. Never raises (a job that raises is only logged by APScheduler,
     but we want the reason in the source's health, which fetch_source records)."""
+    with bind(job_id=f"poll-{source_id}-{uuid.uuid4().hex[:8]}", source_id=source_id):
+        return _poll(database_url, source_id)
+
+
+def _poll(database_url: str, source_id: str) -> FetchOutcome | None:
     try:
         outcome = fetch_source(database_url, source_id)
     except Exception:  # noqa: BLE001 - defensive: fetch_source records its own failures
