@@ -303,8 +303,8 @@ class BreakingResult(NamedTuple):
     broke_at_start: NDArray[np.bool_]
 
 
-_SCAN = 240  # log-spaced depths between the start depth and 1e-4 of it, to bracket the first crossing
-_BISECT = 60
+_SCAN = 48  # log-spaced q = kh between the start and a depth below 1e-4 of it, to bracket the first crossing
+_REFINE = 80  # regula falsi steps at most (converges in about 10)
 
 
 def _local_height(H1, f, s1, cg1, cos1, h, g):  # type: ignore[no-untyped-def]
@@ -349,38 +349,78 @@ def shoal_to_breaking(
     a, b = weggel_coefficients(m)
     gT2 = g * T**2
 
-    def excess(h):  # type: ignore[no-untyped-def]  # > 0 where the wave is breaking at depth h
-        Hh, _ = _local_height(H1[:, None] if h.ndim == 2 else H1, *args(h), h, g)
-        aa, bb, gg = (v[:, None] if h.ndim == 2 else v for v in (a, b, gT2))
-        return Hh - bb * h / (1.0 + aa * h / gg)
-
+    # Work in q = kh: depth, C and Cg are explicit in q (h = q tanh q / k0, C = C0 tanh q,
+    # Cg = C (1 + 2q/sinh 2q)/2), so the march needs one dispersion solve (at the start) and the
+    # root is found on explicit functions (no solve per trial depth).
+    omega = TWO_PI * f
+    k0 = omega * omega / g
+    c0 = g / omega
     s1 = np.sin(th * DEG) / phase_speed(f, h1, g=g)
     cg1 = group_velocity(f, h1, g=g)
     cos1 = np.cos(th * DEG)
+    q1 = wavenumber(f, h1, g=g) * h1
+    lnH1 = np.log(H1)
 
-    def args(h):  # type: ignore[no-untyped-def]
-        if h.ndim == 2:
-            return f[:, None], s1[:, None], cg1[:, None], cos1[:, None]
-        return f, s1, cg1, cos1
+    def gap(u, P):  # type: ignore[no-untyped-def]  # ln(H/Hb_weggel) at q = e^u: >= 0 where breaking
+        k0_, c0_, s1_, cg1cos1_, lnH1_, a_, b_, gT2_ = P
+        q = np.exp(u)
+        t = np.tanh(q)
+        g2 = 4.0 * q * np.exp(-2.0 * q) / -np.expm1(-4.0 * q)  # 2q / sinh 2q without overflow
+        h = q * t / k0_
+        c = c0_ * t
+        sn = np.minimum(np.abs(s1_ * c), 1.0)
+        cos = np.sqrt(1.0 - sn * sn)
+        cg = 0.5 * c * (1.0 + g2)
+        return lnH1_ + 0.5 * np.log(cg1cos1_ / (cg * cos)) - np.log(b_ * h / (1.0 + a_ * h / gT2_))
 
-    at_start = excess(h1) >= 0
-    # scan shoreward for the first depth where the excess turns positive, then bisect
-    frac = np.geomspace(1.0, 1e-4, _SCAN)
-    hs = h1[:, None] * frac[None, :]
-    ex = excess(hs)
-    pos = ex >= 0
-    if not np.all(pos[:, -1] | at_start):
+    pack = (k0, c0, s1, cg1 * cos1, lnH1, a, b, gT2)
+    u1 = np.log(q1)
+    at_start = gap(u1, pack) >= 0
+    # scan shoreward (log-spaced in q, down to a depth below 1e-4 of the start: h <= q²/k0) for the
+    # first crossing, then refine the bracket by regula falsi (Illinois variant)
+    u_min = 0.5 * np.log(k0 * 1e-4 * h1)
+    du = (np.minimum(u_min, u1) - u1) / (_SCAN - 1)
+    ub = u1.copy()
+    live = np.flatnonzero(~at_start)
+    P = tuple(v[live] for v in pack)
+    n = live.size
+    ua, ga = u1[live], gap(u1[live], P)  # last scan point not breaking (gap < 0)
+    ub_, gb = ua.copy(), ga.copy()  # first scan point breaking (gap >= 0)
+    todo = np.arange(n)
+    for _ in range(1, _SCAN):  # column by column, each wave only until its first crossing
+        if todo.size == 0:
+            break
+        uj = ua[todo] + du[live[todo]]
+        gj = gap(uj, tuple(v[todo] for v in P))
+        hit = gj >= 0
+        ub_[todo[hit]], gb[todo[hit]] = uj[hit], gj[hit]
+        ua[todo[~hit]], ga[todo[~hit]] = uj[~hit], gj[~hit]
+        todo = todo[~hit]
+    if todo.size:
         raise ConvergenceError("shoal_to_breaking: no break point found above 1e-4 of the start depth")
-    j = np.argmax(pos, axis=1)  # first breaking scan depth
-    j = np.maximum(j, 1)
-    rows = np.arange(h1.size)
-    hi = hs[rows, j - 1]  # not breaking
-    lo = hs[rows, j]  # breaking
-    for _ in range(_BISECT):
-        mid = 0.5 * (hi + lo)
-        brk = excess(mid) >= 0
-        lo = np.where(brk, mid, lo)
-        hi = np.where(brk, hi, mid)
+    side = np.zeros(n, dtype=np.int8)  # which end was replaced last time (Illinois halving)
+    for _ in range(_REFINE):
+        # done when H/Hb at the breaking end is 1 to 1e-12 (or the bracket cannot shrink further)
+        if n == 0 or np.all((gb <= 1e-12) | (np.abs(ub_ - ua) <= 1e-14 * np.maximum(1.0, np.abs(ub_)))):
+            break
+        den = gb - ga
+        mid = 0.5 * (ua + ub_)
+        uc = np.where(den > 0, ub_ - gb * (ub_ - ua) / np.where(den > 0, den, 1.0), mid)
+        uc = np.where((uc - ua) * (uc - ub_) < 0, uc, mid)  # strictly inside the bracket
+        gc = gap(uc, P)
+        brk = gc >= 0
+        ga = np.where(brk & (side == 1), 0.5 * ga, ga)  # same end replaced twice: halve the kept one
+        gb = np.where(~brk & (side == -1), 0.5 * gb, gb)
+        ub_ = np.where(brk, uc, ub_)
+        gb = np.where(brk, gc, gb)
+        ua = np.where(brk, ua, uc)
+        ga = np.where(brk, ga, gc)
+        side = np.where(brk, 1, -1).astype(np.int8)
+    else:
+        raise ConvergenceError("shoal_to_breaking: the break point did not converge")
+    ub[live] = ub_
+    qb = np.exp(ub)
+    lo = np.where(at_start, h1, qb * np.tanh(qb) / k0)
     db = np.where(at_start, h1, lo)
     Hb, sinb = _local_height(H1, f, s1, cg1, cos1, db, g)
     Hb = np.where(at_start, H1, Hb)
