@@ -118,6 +118,17 @@ def _field_of(loc: tuple[Any, ...] | list[Any]) -> str:
     return f"`{'.'.join(parts)}`"
 
 
+def _allowed_methods(request: Request) -> list[str]:
+    from starlette.routing import Match
+
+    methods: set[str] = set()
+    for route in request.app.routes:
+        match, _ = route.matches({**request.scope, "method": "GET"})
+        if match != Match.NONE and getattr(route, "methods", None):
+            methods |= set(route.methods)
+    return sorted(methods)
+
+
 def _install_handlers(app: FastAPI) -> None:
     @app.exception_handler(ShoalcastError)
     async def _shoalcast(request: Request, exc: ShoalcastError):  # type: ignore[no-untyped-def]
@@ -147,7 +158,10 @@ def _install_handlers(app: FastAPI) -> None:
             from starlette.responses import Response
 
             return Response(status_code=exc.status_code, headers=exc.headers)
-        return problem(exc.status_code, title, detail, instance=request.url.path, headers=exc.headers)
+        headers = dict(exc.headers or {})
+        if exc.status_code == 405:  # Starlette lists only the first matching route's methods
+            headers["Allow"] = ", ".join(_allowed_methods(request))
+        return problem(exc.status_code, title, detail, instance=request.url.path, headers=headers)
 
     @app.exception_handler(Exception)
     async def _unexpected(request: Request, exc: Exception):  # type: ignore[no-untyped-def]

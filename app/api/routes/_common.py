@@ -30,6 +30,7 @@ class Problem(BaseModel):
 
 _TEXT = {
     304: "Not modified: the If-None-Match tag is current (no body; same ETag and Cache-Control).",
+    400: "The request body could not be parsed (malformed JSON or multipart).",
     401: "Missing, unknown or revoked API key.",
     403: "The API key lacks the needed scope.",
     404: "No such resource.",
@@ -52,4 +53,4 @@ def problems(*codes: int) -> dict[int | str, dict[str, Any]]:
 
 
 READ = (304, 404, 422)
-WRITE = (401, 403, 404, 413, 422)
+WRITE = (400, 401, 403, 404, 413, 422)

@@ -20,7 +20,7 @@ router = APIRouter(tags=["alerts"])
     summary="One CAP 1.2 alert message (Alert, Update or Cancel) as XML",
     response_class=Response,
     responses={200: {"content": {CAP_MEDIA_TYPE: {"schema": {"type": "string"}}}, "description": "CAP 1.2 XML"},
-               **problems(304, 404)},
+               **problems(304, 404, 422)},
 )
 def get_alert(request: Request, session: SessionDep, settings: SettingsDep,
               alert_id: str = Path(max_length=120)) -> Response:
