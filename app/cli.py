@@ -10,7 +10,9 @@ import sys
 from app.errors import BadInput, ShoalcastError
 
 # one module per command group in app/commands/
-COMMANDS = ("db", "spot", "source", "ingest", "agency", "tables", "outlook", "hazards", "worker")
+COMMANDS = (
+    "db", "spot", "source", "ingest", "agency", "tables", "outlook", "hazards", "worker", "serve", "key", "openapi", "demo",
+)
 
 
 _SERVICES = ("worker", "serve")

@@ -18,7 +18,7 @@ from pydantic import ValidationError
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
-from app.db.tables import Bathymetry, BreakPoint, Spot
+from app.db.tables import Bathymetry, BreakPoint, Spot, TransferTableRow
 from app.errors import NotFound, ProfileError
 from app.schemas.profile import SpotProfile, describe_validation_error
 from app.schemas.spots import BreakPointPublic, GridSummary, SpotPublic
@@ -180,7 +180,19 @@ def store_spot(session: Session, loaded: LoadedSpot) -> Spot:
     profile, grid = loaded.profile, loaded.grid
     dump = profile.model_dump(mode="json")
     existing = session.get(Spot, profile.id)
+    kept_tables: dict[str, TransferTableRow] = {}
     if existing is not None:
+        # keep each break point's table in use until a rebuild replaces it (its input hash says
+        # whether it is stale); only the new spot's points of the same name inherit one
+        kept_tables = {
+            bp.name: TransferTableRow(
+                spot_id=profile.id, input_hash=bp.table.input_hash, engine_version=bp.table.engine_version,
+                built_at=bp.table.built_at, build_seconds=bp.table.build_seconds, arrays=bp.table.arrays,
+                meta=dict(bp.table.meta),
+            )
+            for bp in existing.break_points
+            if bp.table is not None
+        }
         session.delete(existing)
         session.flush()
     origin = profile.origin
@@ -220,6 +232,7 @@ def store_spot(session: Session, loaded: LoadedSpot) -> Spot:
             longitude=p.longitude,
             depth_m=p.depth_m,
             reference_depth_m=p.reference_depth_m,
+            table=kept_tables.get(p.name),
         )
         for i, p in enumerate(loaded.points)
     ]
