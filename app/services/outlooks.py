@@ -39,6 +39,7 @@ import io
 import json
 import logging
 import math
+import weakref
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
@@ -70,6 +71,7 @@ from models.partition import partition_series
 from models.peel import crest_speed, peel_from_break_times, peel_from_breaking_angle
 from models.propagation import great_circle_distance, initial_bearing, shift_to_spot
 from models.spectra import (
+    bin_widths,
     directional_spectrum_from_coefficients,
     frequency_spectrum,
     hm0,
@@ -77,7 +79,7 @@ from models.spectra import (
     peak_period,
 )
 from models.statistics import expected_max_height_ratio, highest_fraction_ratio
-from models.transfer import TransferTable, apply
+from models.transfer import TransferTable, _direction_matrix
 from models.waves import phase_speed
 
 log = logging.getLogger(__name__)
@@ -226,30 +228,104 @@ class SpotArrays:
     water_level: NDArray[np.float64]  # (T,)
 
 
-def _nearshore(batch: OffshoreBatch, points: Sequence[PointSetup]):  # type: ignore[no-untyped-def]
+@dataclass(frozen=True)
+class TransferWeights:
+    """A table's application on one spectral grid, precomputed: `models.transfer.apply` is
+    E_near(f) = Σ_j E(f, θ_j) W[f, j] plus the energy-weighted direction vector Σ_j E (Wx, Wy)[f, j]
+    (math frame, x east), with W = Δθ0 K²(f) A and (Wx, Wy) = Δθ0 K²(f) (cos, sin)(β_near) A, A the
+    periodic linear interpolation from the spectrum's directions to the table's bins. Same maths as
+    `apply` (checked to 1e-10 in tests), done once per (table, grid) instead of per call."""
+
+    w: NDArray[np.float64]  # (3, nf, nd_spec): W, Wx, Wy
+
+
+_WEIGHTS: weakref.WeakKeyDictionary[TransferTable, dict[tuple[bytes, bytes], TransferWeights]] = (
+    weakref.WeakKeyDictionary()
+)
+
+
+def _interp_matrix(x: NDArray[np.float64], xp: NDArray[np.float64]) -> NDArray[np.float64]:
+    """B[i, k] such that B @ fp = np.interp(x, xp, fp) (ascending xp, clamped at the ends)."""
+    B = np.zeros((x.size, xp.size))
+    if xp.size == 1:
+        B[:, 0] = 1.0
+        return B
+    xc = np.clip(x, xp[0], xp[-1])
+    i = np.clip(np.searchsorted(xp, xc, side="right") - 1, 0, xp.size - 2)
+    t = (xc - xp[i]) / (xp[i + 1] - xp[i])
+    rows = np.arange(x.size)
+    np.add.at(B, (rows, i), 1.0 - t)
+    np.add.at(B, (rows, i + 1), t)
+    return B
+
+
+def transfer_weights(
+    table: TransferTable, frequency_hz: NDArray[np.float64], directions_deg: NDArray[np.float64]
+) -> TransferWeights:
+    """The (memoised) weights of `table` on the spectral grid (frequency_hz, directions_deg)."""
+    f = np.ascontiguousarray(frequency_hz, dtype=float)
+    d = np.ascontiguousarray(directions_deg, dtype=float)
+    per = _WEIGHTS.setdefault(table, {})
+    key = (f.tobytes(), d.tobytes())
+    if key not in per:
+        tf = 1.0 / table.periods_s[::-1]  # ascending table frequencies, as in `apply`
+        k2 = (table.coefficient**2)[::-1]
+        nb = np.radians(90.0 - np.nan_to_num(table.nearshore_direction_deg[::-1], nan=0.0))
+        B = _interp_matrix(f, tf)  # (nf, np): linear in frequency, clamped
+        A = _direction_matrix(d, table.directions_deg)  # (nd_table, nd_spec)
+        dth = math.radians(table.direction_bin_deg)
+        w = np.stack([B @ k2, B @ (k2 * np.cos(nb)), B @ (k2 * np.sin(nb))])  # (3, nf, nd_table)
+        per[key] = TransferWeights(w=dth * (w @ A))
+    return per[key]
+
+
+_CHUNK_POINTS = 128  # points per matrix product (bounds the (nf, T·K, 3·points) temporary)
+
+
+def _nearshore_many(batch: OffshoreBatch, points: Sequence[PointSetup]):  # type: ignore[no-untyped-def]
+    """Nearshore Hm0, Tp, mean direction (per whole spectrum and train) and Tm02 of the whole
+    spectrum, for many points at once: one matrix product per frequency for a chunk of points."""
     f = batch.frequency
-    nt, nk = batch.stack.shape[:2]
+    nt, nk, nf, nd = batch.stack.shape
     P = len(points)
+    E = np.ascontiguousarray(batch.stack.reshape(nt * nk, nf, nd).transpose(1, 0, 2))  # (nf, T·K, nd)
+    widths = bin_widths(f)
     hs = np.zeros((P, nt, nk))
     tp = np.full((P, nt, nk), np.nan)
     dr = np.full((P, nt, nk), np.nan)
     tm02 = np.full((P, nt), np.nan)
-    for i, p in enumerate(points):
-        ns = apply(p.table, f, batch.directions, batch.stack)
-        dens = ns.density  # (nt, nk, nf)
-        hs[i] = hm0(f, dens)
+    for c0 in range(0, P, _CHUNK_POINTS):
+        pts = points[c0 : c0 + _CHUNK_POINTS]
+        W = np.concatenate([transfer_weights(p.table, f, batch.directions).w for p in pts], axis=0)  # (3n, nf, nd)
+        R = np.matmul(E, W.transpose(1, 2, 0))  # (nf, T·K, 3n)
+        R = R.reshape(nf, nt, nk, len(pts), 3).transpose(4, 3, 1, 2, 0)  # (3, n, T, K, nf)
+        dens, vx, vy = R[0], R[1], R[2]
+        sl = slice(c0, c0 + len(pts))
+        m0 = np.sum(dens * widths, axis=-1)
+        hs[sl] = 4.0 * np.sqrt(np.maximum(m0, 0.0))
         ok = dens.max(axis=-1) > 0
-        if ok.any():
-            tp[i][ok] = peak_period(f, dens[ok])
-            # energy-weighted circular mean of the per-frequency mean directions (FROM)
-            rad = np.radians(np.nan_to_num(ns.mean_direction_deg, nan=0.0))
-            vx = np.sum(dens * np.sin(rad), axis=-1)
-            vy = np.sum(dens * np.cos(rad), axis=-1)
-            dr[i][ok] = (np.degrees(np.arctan2(vx, vy)) % 360.0)[ok]
-        m = moments(f, dens[:, 0])
-        good = (m.m0 > 0) & (m.m2 > 0)
-        tm02[i][good] = np.sqrt(m.m0[good] / m.m2[good])
+        ip = np.argmax(dens, axis=-1)
+        tp[sl] = np.where(ok, 1.0 / f[ip], np.nan)
+        # energy-weighted circular mean of the per-frequency mean directions (unit vectors, FROM)
+        r = np.hypot(vx, vy)
+        pos = dens > 0
+        with np.errstate(invalid="ignore", divide="ignore"):
+            ux = np.where(r > 0, vx / r, 1.0)  # arctan2(0, 0) = 0 in `apply`: math angle 0
+            uy = np.where(r > 0, vy / r, 0.0)
+        # (sin, cos) of the nautical angle 90° - φ are (cos φ, sin φ) = (ux, uy)
+        sx = np.sum(np.where(pos, dens * ux, 0.0), axis=-1)
+        sy = np.sum(np.where(pos, dens * uy, 0.0), axis=-1)
+        dr[sl] = np.where(ok, np.degrees(np.arctan2(sx, sy)) % 360.0, np.nan)
+        m2 = np.sum(dens[:, :, 0] * (f**2 * widths), axis=-1)
+        good = (m0[:, :, 0] > 0) & (m2 > 0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            tm02[sl] = np.where(good, np.sqrt(m0[:, :, 0] / m2), np.nan)
     return hs, tp, dr, tm02
+
+
+def _nearshore(batch: OffshoreBatch, points: Sequence[PointSetup]):  # type: ignore[no-untyped-def]
+    """One spot's points (see `_nearshore_many`)."""
+    return _nearshore_many(batch, points)
 
 
 def compute_spots(
@@ -267,7 +343,12 @@ def compute_spots(
     wl = np.broadcast_to(np.asarray(water_level_m, dtype=float), (nt,)).copy()
     if not np.all(np.isfinite(wl)):
         raise BadInput("`water_level_m` must be finite", field="water_level_m")
-    near = [_nearshore(batch, pts) for pts in spots]
+    flat_pts = [p for pts in spots for p in pts]
+    allnear = _nearshore_many(batch, flat_pts)
+    near, c = [], 0
+    for pts in spots:
+        near.append(tuple(v[c : c + len(pts)] for v in allnear))
+        c += len(pts)
     K = batch.stack.shape[1] - 1
     ncls = 3 + K
     # assemble the breaking problem for all spots

@@ -144,6 +144,33 @@ def test_a_sheltered_point_gets_nothing_from_the_blocked_swell_and_all_of_the_op
     json.dumps(steps[0].model_dump(mode="json"), allow_nan=False)  # no NaN reaches JSON
 
 
+def test_precomputed_transfer_weights_equal_transfer_apply() -> None:
+    # exact identity (same maths, reordered): the memoised weights applied as one product give
+    # models.transfer.apply's density and per-frequency mean direction; frequencies beyond the
+    # table's periods (clamped) and a direction grid other than the table's included
+    from models.transfer import apply
+
+    rng = np.random.default_rng(5)
+    f = np.linspace(0.03, 0.3, 31)  # the tables span 8-16 s only
+    d = np.arange(2.5, 360.0, 5.0)
+    e = rng.gamma(0.5, 1.0, (4, 2, f.size, d.size)) * (rng.random((4, 2, f.size, d.size)) < 0.6)
+    for p in fx.points_for("ridge", (-250.0, 0.0)) + fx.points_for("jetty", (0.0,)):
+        w = outlooks.transfer_weights(p.table, f, d)
+        assert outlooks.transfer_weights(p.table, f, d) is w  # memoised per (table, grid)
+        ref = apply(p.table, f, d, e)
+        dens, vx, vy = (np.einsum("...fj,fj->...f", e, w.w[i]) for i in range(3))
+        np.testing.assert_allclose(dens, ref.density, rtol=1e-10, atol=1e-12)
+        ok = dens > 1e-9 * dens.max()
+        mdir = (90.0 - np.degrees(np.arctan2(vy, vx))) % 360.0
+        diff = (mdir - ref.mean_direction_deg + 180.0) % 360.0 - 180.0
+        np.testing.assert_allclose(diff[ok], 0.0, atol=1e-8)
+        # the outlook's nearshore summary from the weights equals the one from apply's spectrum
+        batch = outlooks.prepare_offshore(fx.hours(T0, 4), f, d, e[:, 0], source="t", kind="model-forecast")
+        hs, _, _, _ = outlooks._nearshore(batch, [p])
+        near = apply(p.table, f, d, batch.stack).density  # (T, 1 + K, nf)
+        np.testing.assert_allclose(hs[0], 4.0 * np.sqrt(np.sum(near * outlooks.bin_widths(f), axis=-1)), rtol=1e-10)
+
+
 def test_nothing_arriving_gives_nulls_not_nan() -> None:
     _, _, steps = run("jetty", (0.0,), fx.swell(1.0, 12.0, 330.0, s=2000.0))
     data = steps[0].model_dump(mode="json")
