@@ -445,6 +445,20 @@ _REQUEST_ID_OK = re.compile(r"^[A-Za-z0-9._-]{1,64}$")
 UNMATCHED_ROUTE = "<unmatched>"  # unknown paths share one label (no label explosion from scanners)
 
 
+def _route_template(scope: dict) -> str:
+    """The path template of the matched route, with its router prefix: FastAPI puts the included
+    router's own route (path without the prefix) in scope["route"], and prefixes are literal, so
+    the leading segments the template lacks are taken from the request path. `<unmatched>` when
+    nothing matched."""
+    route = scope.get("route")
+    path = getattr(route, "path", None)
+    if not path:
+        return UNMATCHED_ROUTE
+    actual = str(scope.get("path", "")).split("/")
+    missing = len(actual) - len(path.split("/"))
+    return "/".join(actual[: missing + 1]) + path if missing > 0 else path
+
+
 class ObservabilityMiddleware:
     """Pure ASGI: binds a request id (a sane incoming `X-Request-ID`, else a new one, echoed back),
     counts `http_requests_total` and times `http_request_duration_seconds` by route template."""
@@ -480,7 +494,6 @@ class ObservabilityMiddleware:
             with bind(request_id=request_id):
                 await self.app(scope, receive, send_wrapper)
         finally:
-            route = scope.get("route")
-            template = getattr(route, "path", None) or UNMATCHED_ROUTE
+            template = _route_template(scope)
             self.requests.labels(method=scope.get("method", ""), route=template, status=str(status[0])).inc()
             self.duration.labels(route=template).observe(time.perf_counter() - start)

@@ -23,11 +23,14 @@ from fastapi.middleware.gzip import GZipMiddleware
 from fastapi.routing import APIRoute
 from sqlalchemy.orm import sessionmaker
 from starlette.exceptions import HTTPException as StarletteHTTPException
+from starlette.responses import Response
 from starlette.types import ASGIApp, Message, Receive, Scope, Send
 
 from app.api.http import problem
 from app.config import Settings, get_settings
 from app.errors import ShoalcastError
+from app.observability import CONTENT_TYPE as METRICS_CONTENT_TYPE
+from app.observability import REGISTRY, ObservabilityMiddleware, configure_logging
 
 __all__ = ["create_app"]
 
@@ -211,7 +214,12 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     async def lifespan(app: FastAPI) -> AsyncIterator[None]:
         from app.db.session import get_engine
 
+        configure_logging(settings)
         url = settings.resolved_database_url()
+        if url.startswith("sqlite"):  # the embedded default migrates itself (one file, one user)
+            from app.db import migrate
+
+            migrate.upgrade(url)
         engine = get_engine(url)
         app.state.database_url = url
         app.state.session_factory = sessionmaker(bind=engine, expire_on_commit=False)
@@ -246,6 +254,11 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         app.include_router(module.router, prefix="/v1")
     app.include_router(spots.jobs_router, prefix="/v1")
 
+    @app.get("/metrics", include_in_schema=False)
+    def metrics() -> Response:
+        """Prometheus text exposition: request counts and latency, ingest, rejects, table builds."""
+        return Response(REGISTRY.render(), media_type=METRICS_CONTENT_TYPE)
+
     # Order: the body limit sits innermost-but-one so a 413 still gets CORS headers and gzip.
     app.add_middleware(BodyLimitMiddleware, max_body_bytes=settings.max_body_bytes,
                        max_upload_bytes=settings.max_upload_bytes)
@@ -257,7 +270,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         allow_credentials=False,
         allow_methods=["GET", "HEAD", "PUT", "POST", "DELETE", "OPTIONS"],
         allow_headers=["X-API-Key", "If-None-Match", "Content-Type", "Accept"],
-        expose_headers=["ETag", "Location", "Cache-Control"],
+        expose_headers=["ETag", "Location", "Cache-Control", "X-Request-ID"],
         max_age=600,
     )
+    app.add_middleware(ObservabilityMiddleware)  # outermost: counts and times every answer
     return app
