@@ -11,15 +11,30 @@ where the ray turns fast (at most `max_turn_rad` per step).
 
 A ray traced *backwards* from a nearshore point is simply launched in the opposite (seaward)
 direction. Each ray ends
-    OPEN     depth > wave_base_fraction·L0 (the bottom no longer bends it), or it leaves the grid
-             where the edge depth is >= `edge_min_depth`;
-    BLOCKED  depth < `min_depth` (land, sheltering), or it leaves the grid through a shallow edge;
+    OPEN     it leaves the grid through an open-ocean edge (`open_edges`) where the depth is at
+             least min(`edge_min_depth`, wave base), and, if it is still short of its wave base
+             there, Snell's law over the contours extended beyond the edge lets it reach deep
+             water (it heads seaward and is not trapped along the coast);
+    BLOCKED  depth < `min_depth` (land, sheltering); or a bottom slope steeper than `max_slope`
+             (default 1:3, about where the mild-slope approximation behind ray refraction stops
+             holding, Booij 1983, from memory): a cliff, jetty or island wall, which a grid can
+             only show as a one-cell ramp, reflects or breaks the wave rather than bending it
+             round (without this, rays grazing such a ramp refract into its shadow); or it
+             leaves the grid through a shallow spot or an edge that is not open ocean;
     LOST     step budget `max_steps` used up (counted, reported by the caller).
+Beyond the wave base (depth > wave_base_fraction·L0, common practice: half the deep-water
+wavelength) the bottom no longer bends a ray, so its offshore direction and exit state are taken
+where it crossed the wave base. It is not declared open there, though: it goes on in a straight
+line (one depth sample per step, no RK4) to check that open ocean is actually reachable. A ray
+that reaches the wave base inside a sheltered basin and would run into an island or headland
+further out is blocked, not open; one that runs back into shallower water (a shoal, a ridge)
+refracts again and its later wave-base crossing counts.
 """
 
 from __future__ import annotations
 
 import math
+from collections.abc import Collection
 from typing import NamedTuple
 
 import numpy as np
@@ -30,7 +45,7 @@ from models.constants import TWO_PI, G
 from models.errors import InvalidInput
 from models.waves import group_velocity_ratio, wavenumber
 
-__all__ = ["BLOCKED", "LOST", "OPEN", "RayResult", "dispersion_table", "trace_rays"]
+__all__ = ["BLOCKED", "EDGES", "LOST", "OPEN", "RayResult", "dispersion_table", "trace_rays"]
 
 OPEN, BLOCKED, LOST = 0, 1, 2
 
@@ -112,6 +127,49 @@ def _positive(name: str, v: float, *, allow_inf: bool = False) -> float:
         raise InvalidInput(f"`{name}` must be a positive number, got {v!r}")
     return float(v)
 
+EDGES = ("south", "north", "west", "east")
+
+
+def _edge_names(open_edges) -> NDArray[np.bool_]:
+    """Boolean (4,) over EDGES: which grid edges count as open ocean (None: all four)."""
+    if open_edges is None:
+        return np.ones(4, dtype=bool)
+    names = [open_edges] if isinstance(open_edges, str) else list(open_edges)
+    bad = [e for e in names if e not in EDGES]
+    if bad:
+        raise InvalidInput(f"`open_edges` must name edges among {EDGES}, got {bad!r}")
+    return np.array([e in names for e in EDGES])
+
+
+def _edge_of(x: NDArray[np.float64], y: NDArray[np.float64], extent) -> NDArray[np.intp]:
+    """Index into EDGES of the edge each point (on the grid's boundary) lies on."""
+    xmin, xmax, ymin, ymax = extent
+    dist = np.stack([y - ymin, ymax - y, x - xmin, xmax - x], axis=-1)
+    return np.argmin(np.abs(dist), axis=-1)
+
+
+def _reaches_deep(smp: NDArray[np.float64], theta: NDArray[np.float64], k0: NDArray[np.float64]) -> NDArray[np.bool_]:
+    """For a ray leaving the grid short of its wave base: could it have come from deep water?
+
+    Beyond the edge the bottom is taken as continuing with the local contours straight and
+    parallel, where Snell's invariant sin(α)/C is conserved (α from the seaward contour normal,
+    the direction of ∇h). The ray reaches deep water if it heads seaward (cos α > 0) and
+    sin α < C/C0; otherwise it would run ashore or turn back before deep water (a trapped ray
+    running along the coast): it brings no offshore swell. A flat edge gives no contour to
+    extrapolate and counts as reaching deep water.
+    """
+    h = np.maximum(smp[:, 0], _H_FLOOR)
+    gx, gy = smp[:, 1], smp[:, 2]
+    gn = np.hypot(gx, gy)
+    cs, sn = np.cos(theta), np.sin(theta)
+    flat = gn < 1e-6
+    gns = np.where(flat, 1.0, gn)
+    cos_a = (cs * gx + sn * gy) / gns
+    sin_a = np.abs(cs * gy - sn * gx) / gns
+    u = np.sqrt(k0 * h)
+    c_ratio = u / _lookup(u)[:, 1]  # C/C0
+    return flat | ((cos_a > 0) & (sin_a < c_ratio))
+
 
 def trace_rays(
     grid: DepthGrid,
@@ -124,6 +182,8 @@ def trace_rays(
     min_depth: float = 0.5,
     wave_base_fraction: float = 0.5,
     edge_min_depth: float = 20.0,
+    open_edges: Collection[str] | None = None,
+    max_slope: float = 1.0 / 3.0,
     step_m: float | None = None,
     max_turn_rad: float = 0.05,
     adaptive: bool = True,
@@ -134,7 +194,9 @@ def trace_rays(
 
     All four broadcast to one shape (n,). `step_m` defaults to the smaller grid spacing;
     `adaptive=False` keeps every step exactly `step_m` (used by reversibility checks).
-    `wave_base_fraction=np.inf` disables the wave-base stop. See the module docstring for fates.
+    `wave_base_fraction=np.inf` disables the wave-base test. `open_edges` names the grid edges
+    that are open ocean (see `DepthGrid.deep_edges(...).open_edges()`; None: all four). See the
+    module docstring for fates.
     """
     x, y, theta, period = (np.array(a, dtype=float).ravel() for a in np.broadcast_arrays(x, y, theta, period_s))
     for name, a in (("x", x), ("y", y), ("theta", theta)):
@@ -146,6 +208,7 @@ def trace_rays(
     min_depth = _positive("min_depth", min_depth)
     wave_base_fraction = _positive("wave_base_fraction", wave_base_fraction, allow_inf=True)
     edge_min_depth = _positive("edge_min_depth", edge_min_depth)
+    max_slope = _positive("max_slope", max_slope, allow_inf=True)
     step = _positive("step_m", min(grid.dx, grid.dy) if step_m is None else step_m)
     max_turn_rad = _positive("max_turn_rad", max_turn_rad)
     if not isinstance(max_steps, int | np.integer) or max_steps < 1:
@@ -160,19 +223,26 @@ def trace_rays(
     k0_all = omega * omega / g
     c0_all = g / omega
     base_all = wave_base_fraction * TWO_PI / k0_all  # wave-base depth [m]
+    edge_depth_all = np.minimum(edge_min_depth, base_all)
     xmin, xmax, ymin, ymax = grid.extent
+    edge_open = _edge_names(open_edges)
 
     out_status = np.full(n, LOST, dtype=np.int8)
-    out = {k: np.zeros(n) for k in ("x", "y", "theta", "depth", "length", "ct", "et")}
+    out = {k: np.zeros(n) for k in ("x", "y", "theta", "length", "ct", "et", "depth")}
     out_steps = np.zeros(n, dtype=np.int64)
 
+    # Active-ray state, columns x, y, theta, s, crest time, energy time. `prev` is the state before
+    # the last step (depth `hp`); `saved` the state where the ray last crossed its wave base
+    # seaward (depth `hsv`), which is what an open end reports for a ray that was then deep.
     idx = np.arange(n)
-    X, Y, TH = x.copy(), y.copy(), theta.copy()
-    S = np.zeros(n)
-    TC = np.zeros(n)
-    TE = np.zeros(n)
-    k0, c0, base = k0_all, c0_all, base_all
-    XP, YP, THP, SP, TCP, TEP, HP = X, Y, TH, S, TC, TE, np.zeros(n)  # state before the last step
+    st = np.stack([x, y, theta, np.zeros(n), np.zeros(n), np.zeros(n)], axis=-1)
+    prev = st.copy()
+    hp = np.zeros(n)
+    saved = st.copy()
+    hsv = np.zeros(n)
+    deep = np.zeros(n, dtype=bool)
+    h_deep = np.zeros(n)  # depth at the current point of a deep ray (sampled after its step)
+    k0, c0, base, edge_depth = k0_all, c0_all, base_all, edge_depth_all
     path = [np.stack([x, y], axis=-1)] if record_path else None
 
     def rhs(px, py, pth, k0v, c0v):
@@ -183,97 +253,133 @@ def trace_rays(
         sn, cs = np.sin(pth), np.cos(pth)
         kap = tab[:, 0] / h * (sn * smp[:, 1] - cs * smp[:, 2])
         uc = u * c0v
-        return cs, sn, kap, tab[:, 1] / uc, tab[:, 2] / uc, smp[:, 0]
+        return np.stack([cs, sn, kap, tab[:, 1] / uc, tab[:, 2] / uc], axis=-1), smp
 
-    def finish(sel, status, depth):
+    def finish(sel, status, state, depth):
         r = idx[sel]
         out_status[r] = status
-        out["x"][r], out["y"][r], out["theta"][r] = X[sel], Y[sel], TH[sel]
-        out["depth"][r], out["length"][r], out["ct"][r], out["et"][r] = depth, S[sel], TC[sel], TE[sel]
+        s = state[sel]
+        for j, key in enumerate(("x", "y", "theta", "length", "ct", "et")):
+            out[key][r] = s[:, j]
+        out["depth"][r] = depth[sel]
         out_steps[r] = it
 
     it = 0
     while idx.size:
-        c1, s1, kap1, ic1, ie1, h1 = rhs(X, Y, TH, k0, c0)
-        blocked = h1 < min_depth
-        opened = ~blocked & (h1 > base)
-        lost = ~blocked & ~opened & (it >= max_steps)
-        done = blocked | opened | lost
-        if np.any(done):
-            finish(blocked, BLOCKED, h1[blocked])
-            if np.any(opened):
-                # end exactly at the wave base (linear within the last step), so neighbouring rays
-                # end alike and the direction mapping has no step-count kinks
-                with np.errstate(divide="ignore", invalid="ignore"):
-                    fr = np.clip((base - HP) / (h1 - HP), 0.0, 1.0)
-                fr = np.where(opened & (it > 0) & np.isfinite(fr), fr, 1.0)
-                for A, Ap in ((X, XP), (Y, YP), (TH, THP), (S, SP), (TC, TCP), (TE, TEP)):
-                    A[opened] = Ap[opened] + fr[opened] * (A[opened] - Ap[opened])
-                h1 = np.where(opened & (it > 0), np.minimum(h1, base), h1)
-            finish(opened, OPEN, h1[opened])
-            finish(lost, LOST, h1[lost])
-            keep = ~done
-            idx = idx[keep]
-            X, Y, TH, S, TC, TE = X[keep], Y[keep], TH[keep], S[keep], TC[keep], TE[keep]
-            k0, c0, base = k0[keep], c0[keep], base[keep]
-            XP, YP, THP, SP, TCP, TEP, HP = (a[keep] for a in (XP, YP, THP, SP, TCP, TEP, HP))
-            c1, s1, kap1, ic1, ie1, h1 = c1[keep], s1[keep], kap1[keep], ic1[keep], ie1[keep], h1[keep]
+        # a deep ray that runs back into water shallower than its wave base refracts again
+        deep &= h_deep > base
+        ref = np.flatnonzero(~deep)
+        h = h_deep.copy()
+        k1 = np.zeros((idx.size, 5))
+        k1[ref], smp1 = rhs(st[ref, 0], st[ref, 1], st[ref, 2], k0[ref], c0[ref])
+        h[ref] = smp1[:, 0]
+        blocked = h < min_depth
+        # a face steeper than `max_slope` is a wall to ray theory (reflects or breaks the wave)
+        blocked[ref] |= np.hypot(smp1[:, 1], smp1[:, 2]) > max_slope
+        lost = ~blocked & (it >= max_steps)
+        gone = blocked | lost
+        if np.any(gone):
+            finish(blocked, BLOCKED, st, h)
+            finish(lost, LOST, st, h)
+            keep = ~gone
+            idx, st, prev, hp, saved, hsv, deep, h_deep, k0, c0, base, edge_depth, k1, h = (
+                a[keep] for a in (idx, st, prev, hp, saved, hsv, deep, h_deep, k0, c0, base, edge_depth, k1, h)
+            )  # fmt: skip
             if not idx.size:
                 break
-        if adaptive:
-            ds = np.clip(max_turn_rad / np.maximum(np.abs(kap1), 1e-30), step / 20.0, step)
-        else:
-            ds = np.full(idx.size, step)
-        hs = 0.5 * ds
-        c2, s2, kap2, ic2, ie2, _ = rhs(X + hs * c1, Y + hs * s1, TH + hs * kap1, k0, c0)
-        c3, s3, kap3, ic3, ie3, _ = rhs(X + hs * c2, Y + hs * s2, TH + hs * kap2, k0, c0)
-        c4, s4, kap4, ic4, ie4, _ = rhs(X + ds * c3, Y + ds * s3, TH + ds * kap3, k0, c0)
-        w = ds / 6.0
-        dX = w * (c1 + 2.0 * (c2 + c3) + c4)
-        dY = w * (s1 + 2.0 * (s2 + s3) + s4)
-        X1, Y1 = X + dX, Y + dY
-        TH0 = TH
-        TH = TH + w * (kap1 + 2.0 * (kap2 + kap3) + kap4)
-        dTC = w * (ic1 + 2.0 * (ic2 + ic3) + ic4)
-        dTE = w * (ie1 + 2.0 * (ie2 + ie3) + ie4)
+        cross = ~deep & (h > base)
+        if np.any(cross):
+            # crossing the wave base seaward: keep the crossing point (linear within the last step,
+            # so neighbouring rays end alike and the direction mapping has no step-count kinks)
+            c = np.flatnonzero(cross)
+            if it > 0:
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    fr = np.clip((base[c] - hp[c]) / (h[c] - hp[c]), 0.0, 1.0)
+                fr = np.where(np.isfinite(fr), fr, 1.0)
+                saved[c] = prev[c] + fr[:, None] * (st[c] - prev[c])
+                hsv[c] = np.minimum(h[c], base[c])
+            else:
+                saved[c] = st[c]
+                hsv[c] = h[c]
+            deep[c] = True
+            h_deep[c] = h[c]
+        prev, hp = st, h
+        new = st.copy()
+        dsv = np.full(idx.size, step)
+        # refracting rays: classical RK4
+        r = np.flatnonzero(~deep)
+        if r.size:
+            X, Y, TH = st[r, 0], st[r, 1], st[r, 2]
+            a1 = k1[r]
+            kv, cv = k0[r], c0[r]
+            if adaptive:
+                ds = np.clip(max_turn_rad / np.maximum(np.abs(a1[:, 2]), 1e-30), step / 20.0, step)
+            else:
+                ds = np.full(r.size, step)
+            hs = 0.5 * ds
+            a2, _ = rhs(X + hs * a1[:, 0], Y + hs * a1[:, 1], TH + hs * a1[:, 2], kv, cv)
+            a3, _ = rhs(X + hs * a2[:, 0], Y + hs * a2[:, 1], TH + hs * a2[:, 2], kv, cv)
+            a4, _ = rhs(X + ds * a3[:, 0], Y + ds * a3[:, 1], TH + ds * a3[:, 2], kv, cv)
+            inc = (ds / 6.0)[:, None] * (a1 + 2.0 * (a2 + a3) + a4)
+            new[r, 0] += inc[:, 0]
+            new[r, 1] += inc[:, 1]
+            new[r, 2] += inc[:, 2]
+            new[r, 4] += inc[:, 3]
+            new[r, 5] += inc[:, 4]
+            dsv[r] = ds
+        # deep rays: straight (no refraction beyond the wave base); only their path is checked
+        # for land and for shoals that bring them back into refracting water
+        d = np.flatnonzero(deep)
+        if d.size:
+            new[d, 0] += step * np.cos(st[d, 2])
+            new[d, 1] += step * np.sin(st[d, 2])
+            # times still run (they matter if the ray refracts again): C0/C, C0/Cg at this depth
+            tab = _lookup(np.sqrt(k0[d] * np.maximum(h[d], _H_FLOOR)))
+            new[d, 4] += step * tab[:, 1] / c0[d]
+            new[d, 5] += step * tab[:, 2] / c0[d]
+        new[:, 3] += dsv
         it += 1
-        out_x = (X1 < xmin) | (X1 > xmax) | (Y1 < ymin) | (Y1 > ymax)
+        out_x = (new[:, 0] < xmin) | (new[:, 0] > xmax) | (new[:, 1] < ymin) | (new[:, 1] > ymax)
         if np.any(out_x):
             # cut the last step at the edge (linear), then end the ray there
+            dlt = new - st
             with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
                 fr = np.ones(idx.size)
-                for lim, v0, dv in ((xmin, X, dX), (xmax, X, dX), (ymin, Y, dY), (ymax, Y, dY)):
-                    f = (lim - v0) / dv
+                for lim, col in ((xmin, 0), (xmax, 0), (ymin, 1), (ymax, 1)):
+                    f = (lim - st[:, col]) / dlt[:, col]
                     fr = np.where((f >= 0) & (f < fr), f, fr)
             fr = np.where(out_x, fr, 1.0)
-            X1, Y1 = X + fr * dX, Y + fr * dY
-            X1 = np.clip(X1, xmin, xmax)
-            Y1 = np.clip(Y1, ymin, ymax)
-            dTC, dTE, ds = fr * dTC, fr * dTE, fr * ds
-        XP, YP, THP, SP, TCP, TEP, HP = X, Y, TH0, S, TC, TE, h1
-        X, Y = X1, Y1
-        S = S + ds
-        TC = TC + dTC
-        TE = TE + dTE
+            new = st + fr[:, None] * dlt
+            new[:, 0] = np.clip(new[:, 0], xmin, xmax)
+            new[:, 1] = np.clip(new[:, 1], ymin, ymax)
+        st = new
         if path is not None:
             p = np.full((n, 2), np.nan)
-            p[idx, 0], p[idx, 1] = X, Y
+            p[idx] = st[:, :2]
             path.append(p)
+        if d.size:
+            h_deep[d] = grid.depth_at(st[d, 0], st[d, 1])
         if np.any(out_x):
-            he = grid.depth_at(X[out_x], Y[out_x])
-            ok = he >= edge_min_depth
             sel = np.flatnonzero(out_x)
+            smp = grid.sample(st[sel, 0], st[sel, 1])
+            he = smp[:, 0]
+            side = _edge_of(st[sel, 0], st[sel, 1], grid.extent)
+            ok = (he >= edge_depth[sel]) & edge_open[side] & (deep[sel] | _reaches_deep(smp, st[sel, 2], k0[sel]))
             m_open = np.zeros(idx.size, dtype=bool)
             m_block = np.zeros(idx.size, dtype=bool)
             m_open[sel[ok]] = True
             m_block[sel[~ok]] = True
-            finish(m_open, OPEN, he[ok])
-            finish(m_block, BLOCKED, he[~ok])
+            hx = np.zeros(idx.size)
+            hx[sel] = he
+            # a ray that was deep when it left reports its wave-base crossing, others the edge
+            dp = m_open & deep
+            fin = np.where(dp[:, None], saved, st)
+            finish(m_open, OPEN, fin, np.where(dp, hsv, hx))
+            finish(m_block, BLOCKED, st, hx)
             keep = ~out_x
-            idx = idx[keep]
-            X, Y, TH, S, TC, TE = X[keep], Y[keep], TH[keep], S[keep], TC[keep], TE[keep]
-            k0, c0, base = k0[keep], c0[keep], base[keep]
-            XP, YP, THP, SP, TCP, TEP, HP = (a[keep] for a in (XP, YP, THP, SP, TCP, TEP, HP))
+            idx, st, prev, hp, saved, hsv, deep, h_deep, k0, c0, base, edge_depth = (
+                a[keep] for a in (idx, st, prev, hp, saved, hsv, deep, h_deep, k0, c0, base, edge_depth)
+            )  # fmt: skip
 
     return RayResult(
         status=out_status,

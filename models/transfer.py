@@ -6,13 +6,28 @@ launch measure dβ that maps into offshore direction bin k (width Δθ0) gives
 
     K²(f, θ0_k) = (1/Δθ0) ∫_{β → bin k} (C·Cg)_exit / (C·Cg)_ref dβ,
 
-with (C·Cg) taken at the depth where the ray ended (the wave base, or an edge in intermediate
-depth). Each pair of neighbouring open rays is an *interval* [β_i, β_i+1] -> [θ0_i, θ0_i+1] whose
-measure is spread uniformly over the offshore directions it covers (no ray-counting noise).
-Pairs whose ends differ in fate (open/blocked/lost) or whose offshore directions jump by more
-than `fold_jump_deg` (the two rays passed on either side of an obstacle) are split: each open end
-keeps half the interval as a point mass at its own direction. Folds (caustics) need nothing
-special: overlapping intervals add, and every bin stays finite (at most the whole launch circle).
+with (C·Cg) taken at the depth where the ray ended (its wave-base crossing, or an open-ocean
+edge in intermediate depth; see `models.rays` for fates). Each pair of neighbouring open rays is
+an *interval* [β_i, β_i+1] -> [θ0_i, θ0_i+1] whose measure is spread uniformly over the offshore
+directions it covers (no ray-counting noise).
+
+Adaptive launch refinement: the launch circle (spacing `launch_spacing_deg`) is subdivided up to
+`refine_levels` times (factor 2 each, default 6: 1/64 of the spacing) wherever two neighbouring
+rays end differently (open/blocked/lost) or their offshore directions differ by more than
+`refine_jump_deg` (default `fold_jump_deg`). Shadow edges and the fans of rays that graze an island
+tip are so resolved to the finest step. Pairs still split at the finest step (ends differ in
+fate, or a jump > `fold_jump_deg`: the rays passed either side of an obstacle) carry no energy:
+their measure (at most one finest step per edge) is reported per period in
+`meta["unresolved_fraction_by_period"]`. Earlier versions gave each open end of a split pair
+half the launch interval as a point mass at its own direction, so one stray ray between
+blocked neighbours showed as an isolated "open" bin with K ≈ sqrt(Δβ/2/Δθ0·ratio) ≈ 0.25; now an
+open arc always comes from resolved ray intervals (a beam that at least two rays share), so a
+genuinely narrow gap stays open and a single unresolved ray opens nothing. Folds (caustics)
+need nothing special: overlapping intervals add, and every bin stays finite.
+
+Steep faces: a bottom steeper than `max_slope` (default 1:3) blocks rays (`models.rays`): a
+gridded cliff or island wall is a one-cell ramp, and rays grazing it would otherwise refract
+into its geometric shadow, leaking a few per cent of the energy into directions the wall blocks.
 
 Directions at this module's edges are nautical FROM degrees (clockwise from north). An offshore
 FROM direction of a backward ray is the bearing it is heading at its end.
@@ -34,7 +49,7 @@ from numpy.typing import ArrayLike, NDArray
 from models.bathymetry import DepthGrid
 from models.constants import G
 from models.errors import InvalidInput
-from models.rays import BLOCKED, LOST, OPEN, trace_rays
+from models.rays import BLOCKED, EDGES, LOST, OPEN, trace_rays
 from models.waves import group_velocity, phase_speed
 
 __all__ = [
@@ -50,7 +65,7 @@ __all__ = [
     "swell_window",
 ]
 
-ENGINE_VERSION = "shoalcast-rays-1"
+ENGINE_VERSION = "shoalcast-rays-2"
 
 # 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
 DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
@@ -234,8 +249,10 @@ def _point_bin(d, q, nd: int, width: float) -> NDArray[np.float64]:
     return np.stack([np.bincount(k, weights=q[:, c], minlength=nd) for c in range(q.shape[1])], axis=-1)
 
 
-def _map_period(status, d_off, beta_near, w, tc, te, dbeta: float, nd: int, width: float, fold: float):
-    """Interval mapping for one period. All inputs (nb,) in launch order (cyclic)."""
+def _map_period(status, d_off, beta_near, w, tc, te, gap, unit: float, nd: int, width: float, fold: float):
+    """Interval mapping for one period. Inputs (nr,) in launch order (cyclic); `gap` (nr,) is the
+    launch measure from each ray to the next in units of `unit` [deg]. Returns the per-bin sums
+    (nd, 6) and the unresolved launch measure [deg] (split pairs with an open end)."""
     nxt = np.roll(np.arange(status.size), -1)
     op = status == OPEN
     jump = ((d_off[nxt] - d_off + 180.0) % 360.0) - 180.0
@@ -243,33 +260,96 @@ def _map_period(status, d_off, beta_near, w, tc, te, dbeta: float, nd: int, widt
     regular = op & op[nxt] & (np.abs(jump) <= fold)
     tiny = regular & (np.abs(jump) < 1e-9)
     spread = regular & ~tiny
+    meas = gap * unit
 
-    # regular intervals: quantities at the interval middle (ends differ by one launch step)
+    # regular intervals: quantities at the interval middle
     a = np.flatnonzero(spread)
     b = nxt[a]
     lo = np.minimum(d_off[a], d_off[a] + jump[a])
     hi = np.maximum(d_off[a], d_off[a] + jump[a])
     wm = 0.5 * (w[a] + w[b])
     bm = np.radians(beta_near[a] + 0.5 * bjump[a])
-    m = dbeta * wm
+    m = meas[a] * wm
     q = np.stack(
         [m, m * np.cos(bm), m * np.sin(bm), m * 0.5 * (tc[a] + tc[b]), m * 0.5 * (te[a] + te[b]), hi - lo],
         axis=-1,
     )
     acc = _cdf_bin(lo, hi, q, nd, width) if a.size else np.zeros((nd, 6))
 
-    # point masses: tiny intervals (whole measure at one direction), and half intervals at open
-    # ends of split pairs
-    irregular = ~regular
-    pt_idx = [np.flatnonzero(tiny), np.flatnonzero(irregular & op), nxt[np.flatnonzero(irregular & op[nxt])]]
-    pt_meas = [np.full(pt_idx[0].size, dbeta), np.full(pt_idx[1].size, 0.5 * dbeta), np.full(pt_idx[2].size, 0.5 * dbeta)]
-    pi = np.concatenate(pt_idx)
-    if pi.size:
-        pm = np.concatenate(pt_meas) * w[pi]
-        br = np.radians(beta_near[pi])
-        qp = np.stack([pm, pm * np.cos(br), pm * np.sin(br), pm * tc[pi], pm * te[pi], np.zeros(pi.size)], axis=-1)
-        acc = acc + _point_bin(d_off[pi], qp, nd, width)
-    return acc
+    # tiny intervals (both ends at one offshore direction): the whole measure at that direction
+    t = np.flatnonzero(tiny)
+    if t.size:
+        pm = meas[t] * 0.5 * (w[t] + w[nxt[t]])
+        br = np.radians(beta_near[t] + 0.5 * bjump[t])
+        qp = np.stack([pm, pm * np.cos(br), pm * np.sin(br), pm * tc[t], pm * te[t], np.zeros(t.size)], axis=-1)
+        acc = acc + _point_bin(d_off[t], qp, nd, width)
+    # split pairs (ends differ in fate, or jump past `fold`) are left at the finest launch step:
+    # their measure is not assigned to any direction (see the module docstring)
+    unresolved = float(meas[~regular & (op | op[nxt])].sum())
+    return acc, unresolved
+
+
+def _trace(grid, x_ref, y_ref, beta_rad, periods, opts):
+    return trace_rays(
+        grid, x_ref, y_ref, beta_rad, periods,
+        g=opts["g"], min_depth=opts["min_depth"], wave_base_fraction=opts["wave_base_fraction"],
+        edge_min_depth=opts["edge_min_depth"], open_edges=opts["open_edges"], max_slope=opts["max_slope"],
+        step_m=opts["step_m"],
+        max_turn_rad=opts["max_turn_rad"], max_steps=opts["max_steps"],
+    )  # fmt: skip
+
+
+_RAY_FIELDS = ("status", "theta", "x", "y", "depth", "crest_time", "energy_time")
+
+
+def _refined_rays(grid, x_ref, y_ref, periods, opts) -> list[dict[str, NDArray]]:
+    """Rays per period on the base launch circle, then bisected `refine_levels` times wherever
+    two neighbours differ in fate or in offshore direction by more than `refine_jump_deg`.
+    Launch positions are integers `u` in units of the finest step (all periods in one trace per
+    level)."""
+    nb, L = opts["n_launch"], opts["refine_levels"]
+    n_fine = nb << L
+    unit = 360.0 / n_fine
+    u0 = np.arange(nb, dtype=np.int64) << L
+    r = _trace(grid, x_ref, y_ref, np.radians(unit * np.tile(u0, periods.size)), np.repeat(periods, nb), opts)
+    per = [{"u": u0.copy(), **{k: getattr(r, k)[p * nb : (p + 1) * nb].copy() for k in _RAY_FIELDS}} for p in range(periods.size)]
+    jlim = opts["refine_jump_deg"]
+    # passes of up to three bisections at once (7 new rays per interval): fewer, larger traces
+    left = L
+    while left > 0:
+        sub = 1 << min(3, left)
+        left -= min(3, left)
+        mids, owners = [], []
+        for p, d in enumerate(per):
+            st = d["status"]
+            nxt = np.roll(np.arange(st.size), -1)
+            gap = (d["u"][nxt] - d["u"]) % n_fine
+            gap[gap == 0] = n_fine  # a single ray
+            op = st == OPEN
+            jump = np.abs(((np.degrees(d["theta"][nxt] - d["theta"]) + 180.0) % 360.0) - 180.0)
+            need = (gap > 1) & ((st != st[nxt]) | (op & op[nxt] & (jump > jlim)))
+            k = np.flatnonzero(need)
+            if k.size:
+                # at most `sub` parts per interval, and never finer than the finest step
+                parts = np.minimum(sub, gap[k])
+                for j in range(1, sub):
+                    ok = j < parts
+                    mids.append((d["u"][k[ok]] + (gap[k[ok]] * j) // parts[ok]) % n_fine)
+                    owners.append(np.full(int(ok.sum()), p))
+        if not mids:
+            break
+        um = np.concatenate(mids)
+        pm = np.concatenate(owners)
+        rm = _trace(grid, x_ref, y_ref, np.radians(unit * um), periods[pm], opts)
+        for p in np.unique(pm):
+            sel = pm == p
+            d = per[p]
+            u = np.concatenate([d["u"], um[sel]])
+            order = np.argsort(u, kind="stable")
+            d["u"] = u[order]
+            for key in _RAY_FIELDS:
+                d[key] = np.concatenate([d[key], getattr(rm, key)[sel]])[order]
+    return per
 
 
 def _trace_table_rows(
@@ -279,49 +359,50 @@ def _trace_table_rows(
     periods: NDArray[np.float64],
     opts: dict[str, Any],
 ) -> dict[str, NDArray[np.float64]]:
-    """Trace and map one set of periods (all in one vectorised trace); rows of the table."""
+    """Trace and map one set of periods; rows of the table."""
     g = opts["g"]
-    nb = opts["n_launch"]
     nd = opts["n_bins"]
     width = 360.0 / nd
-    dbeta = 360.0 / nb
-    beta = np.radians(dbeta * np.arange(nb))  # launch (backward) math angles
-    P = np.repeat(periods, nb)
-    B = np.tile(beta, periods.size)
+    n_fine = opts["n_launch"] << opts["refine_levels"]
+    unit = 360.0 / n_fine
     h_ref = float(grid.depth_at(x_ref, y_ref))
-    r = trace_rays(
-        grid, x_ref, y_ref, B, P,
-        g=g, min_depth=opts["min_depth"], wave_base_fraction=opts["wave_base_fraction"],
-        edge_min_depth=opts["edge_min_depth"], step_m=opts["step_m"], max_turn_rad=opts["max_turn_rad"],
-        max_steps=opts["max_steps"],
-    )  # fmt: skip
-    op = r.status == OPEN
-    f = 1.0 / P
-    he = np.where(op, np.maximum(r.depth, 1e-3), 1.0)
-    ce = phase_speed(f, he, g=g)
-    cge = group_velocity(f, he, g=g)
-    cr = phase_speed(1.0 / periods, h_ref, g=g)
-    cgr = group_velocity(1.0 / periods, h_ref, g=g)
-    w = ce * cge / np.repeat(cr * cgr, nb)
-    # plane-front reference through the origin: the wave travels toward -(cos θ, sin θ)
-    proj = r.x * np.cos(r.theta) + r.y * np.sin(r.theta)
-    tc = r.crest_time - proj / ce
-    te = r.energy_time - proj / cge
-    d_off = _math_to_nautical(r.theta)
-    b_near = _math_to_nautical(B)
-
-    shape = (periods.size, nb)
-    st, d_off, w, tc, te, b_near = (a.reshape(shape) for a in (r.status, d_off, w, tc, te, b_near))
+    per = _refined_rays(grid, x_ref, y_ref, periods, opts)
     coef = np.zeros((periods.size, nd))
     ndir = np.full((periods.size, nd), np.nan)
     tt = np.full((periods.size, nd), np.nan)
     et = np.full((periods.size, nd), np.nan)
     of = np.zeros((periods.size, nd))
-    width_rad = math.radians(width)
-    for p in range(periods.size):
-        acc = _map_period(st[p], d_off[p], b_near[p], w[p], tc[p], te[p], dbeta, nd, width, opts["fold_jump_deg"])
+    lost = np.zeros(periods.size)
+    blocked = np.zeros(periods.size)
+    unresolved = np.zeros(periods.size)
+    n_rays = np.zeros(periods.size)
+    for p, T in enumerate(periods):
+        d = per[p]
+        st = d["status"]
+        op = st == OPEN
+        f = 1.0 / T
+        he = np.where(op, np.maximum(d["depth"], 1e-3), 1.0)
+        ce = phase_speed(f, he, g=g)
+        cge = group_velocity(f, he, g=g)
+        w = ce * cge / (phase_speed(f, h_ref, g=g) * group_velocity(f, h_ref, g=g))
+        # plane-front reference through the origin: the wave travels toward -(cos θ, sin θ)
+        proj = d["x"] * np.cos(d["theta"]) + d["y"] * np.sin(d["theta"])
+        tc = d["crest_time"] - proj / ce
+        te = d["energy_time"] - proj / cge
+        nxt = np.roll(np.arange(st.size), -1)
+        gap = (d["u"][nxt] - d["u"]) % n_fine
+        gap[gap == 0] = n_fine
+        # each ray stands for the launch measure halfway to its neighbours (fractions of the circle)
+        share = 0.5 * (gap + np.roll(gap, 1)) / n_fine
+        lost[p] = share[st == LOST].sum()
+        blocked[p] = share[st == BLOCKED].sum()
+        n_rays[p] = st.size
+        acc, unresolved[p] = _map_period(
+            st, _math_to_nautical(d["theta"]), _math_to_nautical(unit * d["u"] * (math.pi / 180.0)),
+            w, tc, te, gap, unit, nd, width, opts["fold_jump_deg"],
+        )  # fmt: skip
         e = acc[:, 0]
-        has = e > 1e-9 * dbeta  # below: round-off of the cumulative sums (an empty bin)
+        has = e > 1e-9 * unit  # below: round-off of the cumulative sums (an empty bin)
         e = np.where(has, e, 0.0)
         coef[p] = np.sqrt(np.maximum(e, 0.0) / width)
         # nearshore mean direction: circular mean of the math-angle unit vectors of the
@@ -332,8 +413,6 @@ def _trace_table_rows(
             tt[p] = np.where(has, acc[:, 3] / e, np.nan)
             et[p] = np.where(has, acc[:, 4] / e, np.nan)
         of[p] = np.minimum(acc[:, 5] / width, 1.0)
-    del width_rad
-    lost = (st == LOST).sum(axis=1) / nb
     return {
         "coefficient": coef,
         "nearshore_direction_deg": ndir,
@@ -341,8 +420,17 @@ def _trace_table_rows(
         "energy_travel_time_s": et,
         "open_fraction": of,
         "lost_fraction_by_period": lost,
-        "n_blocked": (st == BLOCKED).sum(axis=1).astype(float),
+        "blocked_fraction": blocked,
+        "unresolved_fraction": unresolved / 360.0,
+        "n_rays": n_rays,
     }
+
+
+_DEFAULTS: dict[str, Any] = dict(
+    direction_bin_deg=2.0, launch_spacing_deg=0.25, smoothing_m=None, min_depth=0.5,
+    edge_min_depth=20.0, open_edges=None, max_slope=1.0 / 3.0, wave_base_fraction=0.5, step_m=None, max_turn_rad=0.05,
+    max_steps=20000, fold_jump_deg=10.0, refine_levels=6, refine_jump_deg=None, g=G,
+)  # fmt: skip
 
 
 def _options(grid: DepthGrid, **kw: Any) -> dict[str, Any]:
@@ -357,6 +445,26 @@ def _options(grid: DepthGrid, **kw: Any) -> dict[str, Any]:
         opts["step_m"] = max(min(grid.dx, grid.dy), 0.5 * float(sm))
     if not (kw["fold_jump_deg"] > 0):
         raise InvalidInput(f"`fold_jump_deg` must be positive [deg], got {kw['fold_jump_deg']!r}")
+    lv = kw["refine_levels"]
+    if not (isinstance(lv, int | np.integer) and 0 <= lv <= 12):
+        raise InvalidInput(f"`refine_levels` must be an integer 0..12, got {lv!r}")
+    opts["refine_levels"] = int(lv)
+    rj = kw["refine_jump_deg"]
+    opts["refine_jump_deg"] = float(kw["fold_jump_deg"] if rj is None else rj)
+    if not opts["refine_jump_deg"] > 0:
+        raise InvalidInput(f"`refine_jump_deg` must be positive [deg], got {rj!r}")
+    if kw["open_edges"] is None:
+        # open ocean from the data: edges at least half of whose cells are edge_min_depth deep
+        em = kw["edge_min_depth"]
+        if not (isinstance(em, int | float | np.floating | np.integer) and em > 0):
+            raise InvalidInput(f"`edge_min_depth` must be a positive depth [m], got {em!r}")
+        opts["open_edges"] = grid.deep_edges(float(em)).open_edges()
+    else:
+        names = [kw["open_edges"]] if isinstance(kw["open_edges"], str) else list(kw["open_edges"])
+        bad = [e for e in names if e not in EDGES]
+        if bad:
+            raise InvalidInput(f"`open_edges` must name edges among {EDGES}, got {bad!r}")
+        opts["open_edges"] = names
     return opts
 
 
@@ -386,26 +494,35 @@ def build_table(
     smoothing_m: float | None = None,
     min_depth: float = 0.5,
     edge_min_depth: float = 20.0,
+    open_edges: Sequence[str] | None = None,
+    max_slope: float = 1.0 / 3.0,
     wave_base_fraction: float = 0.5,
     step_m: float | None = None,
     max_turn_rad: float = 0.05,
     max_steps: int = 20000,
     fold_jump_deg: float = 10.0,
+    refine_levels: int = 6,
+    refine_jump_deg: float | None = None,
     g: float = G,
 ) -> TransferTable:
     """Transfer table for the reference point (x_ref, y_ref) [m] (see the module docstring).
 
     `smoothing_m` (Gaussian standard deviation; default two grid cells) is applied to `grid`
     unless `grid.meta["smoothing_m"]` already equals it. `step_m` defaults to the larger of one
-    cell and half the smoothing length. Rays end open beyond `wave_base_fraction`·L0 (common
-    practice: half the deep-water wavelength) or at a grid edge at least `edge_min_depth` deep.
+    cell and half the smoothing length. Rays end open where they leave the grid through an
+    open-ocean edge (`open_edges`; default from the data: `grid.deep_edges(edge_min_depth)
+    .open_edges()`) at least min(`edge_min_depth`, wave base) deep; beyond `wave_base_fraction`·L0
+    (common practice: half the deep-water wavelength) they run straight and report their state
+    at the wave base. Launch intervals are bisected `refine_levels` times where neighbours differ
+    in fate or in offshore direction by more than `refine_jump_deg` (default: the bin width).
     """
     periods = _periods(periods_s)
     opts = _options(
         grid, direction_bin_deg=direction_bin_deg, launch_spacing_deg=launch_spacing_deg,
         smoothing_m=smoothing_m, min_depth=min_depth, edge_min_depth=edge_min_depth,
-        wave_base_fraction=wave_base_fraction, step_m=step_m, max_turn_rad=max_turn_rad,
-        max_steps=max_steps, fold_jump_deg=fold_jump_deg, g=g,
+        open_edges=open_edges, max_slope=max_slope, wave_base_fraction=wave_base_fraction, step_m=step_m,
+        max_turn_rad=max_turn_rad, max_steps=max_steps, fold_jump_deg=fold_jump_deg,
+        refine_levels=refine_levels, refine_jump_deg=refine_jump_deg, g=g,
     )  # fmt: skip
     sg = _prepared(grid, opts["smoothing_m"])
     x_ref, y_ref = float(x_ref), float(y_ref)
@@ -432,11 +549,17 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         "edge_min_depth_m": float(opts["edge_min_depth"]),
         "wave_base_fraction": float(opts["wave_base_fraction"]),
         "fold_jump_deg": float(opts["fold_jump_deg"]),
+        "refine_levels": int(opts["refine_levels"]),
+        "max_slope": float(opts["max_slope"]),
+        "refine_jump_deg": float(opts["refine_jump_deg"]),
+        "open_edges": list(opts["open_edges"]),
         "max_steps": int(opts["max_steps"]),
         "g": float(opts["g"]),
         "grid_shape": list(sg.shape),
         "grid_spacing_m": [sg.dx, sg.dy],
-        "blocked_fraction_by_period": (cat["n_blocked"] / opts["n_launch"]).tolist(),
+        "blocked_fraction_by_period": cat["blocked_fraction"].tolist(),
+        "unresolved_fraction_by_period": cat["unresolved_fraction"].tolist(),
+        "rays_by_period": cat["n_rays"].astype(int).tolist(),
     }
     lost = cat["lost_fraction_by_period"]
     return TransferTable(
@@ -476,11 +599,7 @@ def build_tables(
     `period_chunks` chunks of periods. `options` are `build_table`'s keywords. `progress(done,
     total)` is called as chunks finish. Results are identical to `build_table` per point.
     """
-    defaults = dict(
-        periods_s=DEFAULT_PERIODS_S, direction_bin_deg=2.0, launch_spacing_deg=0.25, smoothing_m=None,
-        min_depth=0.5, edge_min_depth=20.0, wave_base_fraction=0.5, step_m=None, max_turn_rad=0.05,
-        max_steps=20000, fold_jump_deg=10.0, g=G,
-    )  # fmt: skip
+    defaults = dict(_DEFAULTS, periods_s=DEFAULT_PERIODS_S)
     unknown = set(options) - set(defaults)
     if unknown:
         raise InvalidInput(f"unknown option(s) {sorted(unknown)!r}")
