@@ -62,6 +62,8 @@ class PeelResult(NamedTuple):
 
 def crest_speed(breaker_depth_m: ArrayLike, *, g: float = G) -> NDArray[np.float64]:
     """Crest speed at breaking, shallow-water Cb = √(g·hb) (common approximation, physics.md §5)."""
+    if isinstance(breaker_depth_m, float | int) and math.isfinite(breaker_depth_m) and breaker_depth_m > 0:
+        return np.float64(math.sqrt(g * breaker_depth_m))  # scalar fast path (one call per outlook step)
     h = np.asarray(breaker_depth_m, dtype=float)
     if np.any(~np.isfinite(h) | (h <= 0)):
         raise InvalidInput(f"`breaker_depth_m` must be finite and > 0, got {h[~np.isfinite(h) | (h <= 0)].ravel()[0]!r}")
@@ -70,6 +72,15 @@ def crest_speed(breaker_depth_m: ArrayLike, *, g: float = G) -> NDArray[np.float
 
 def peel_speeds(angle_deg: ArrayLike, crest_speed_m_s: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """(peel rate Vp = Cb/tan α, surfer speed Vs = Cb/sin α) [m/s]; α = 0 gives inf (a closeout)."""
+    if (
+        isinstance(angle_deg, float | int) and isinstance(crest_speed_m_s, float | int)
+        and 0 <= angle_deg <= 90 and math.isfinite(crest_speed_m_s) and crest_speed_m_s > 0
+    ):  # fmt: skip  # scalar fast path, same values as the array path
+        r = angle_deg * DEG
+        sin = math.sin(r)
+        vp = 0.0 if angle_deg >= 90 else (math.inf if sin == 0 else crest_speed_m_s * math.cos(r) / sin)
+        vs = math.inf if sin == 0 else crest_speed_m_s / sin
+        return np.float64(vp), np.float64(vs)
     a = np.asarray(angle_deg, dtype=float)
     cb = np.asarray(crest_speed_m_s, dtype=float)
     if np.any(~np.isfinite(a) | (a < 0) | (a > 90)):

@@ -47,21 +47,18 @@ from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
+from pydantic import TypeAdapter
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from app.db.tables import Observation, OutlookCache, Source, Spot, TransferTableRow, utcnow
 from app.errors import BadInput, Conflict, NotFound
 from app.schemas.outlooks import (
-    Hazard,
     HeightClasses,
-    Offshore,
     OutlookBody,
     OutlookOptions,
     Peel,
-    PointDetail,
     Step,
-    Swell,
 )
 from models.breaking import shoal_to_breaking
 from models.constants import FOOT
@@ -106,6 +103,7 @@ CAUTIONS = (
     CAUTION,
 )
 
+_STEPS = TypeAdapter(list[Step])
 SETS_RATIO = float(highest_fraction_ratio(SETS_FRACTION, reference="hm0"))  # H1/10 / Hm0 (Rayleigh)
 
 
@@ -444,17 +442,21 @@ def _rate(r: Any) -> float | None:
     return _num(r.peel_rate_m_s) if r.direction != "closeout" else None
 
 
-def peel_at(
+def _peel_at(
     points: Sequence[PointSetup], arr: SpotArrays, step: int, *, offshore_tp: float, offshore_dir: float
-) -> Peel:
+) -> dict[str, Any]:
     """Peel of one step (see the module docstring); uses the typical class for positions and times."""
-    hb = arr.hb[:, step, 0]
-    ok = np.isfinite(hb)
-    if not ok.any():
-        return Peel(direction=None, angle_deg=None, first_point=None)
-    idx = np.flatnonzero(ok)
+    hb = arr.hb[:, step, 0].tolist()  # few points: plain Python is cheaper than numpy reductions here
+    idx = np.array([i for i, v in enumerate(hb) if math.isfinite(v)], dtype=int)
+    if idx.size == 0:
+        return dict(direction=None, angle_deg=None, first_point=None)
     sets = arr.hb[:, step, 1]
-    largest = points[int(idx[np.nanargmax(sets[idx])])].name if np.isfinite(sets[idx]).any() else None
+    sl = [(v, i) for i, v in zip(idx.tolist(), sets[idx].tolist(), strict=True) if math.isfinite(v)]
+    i_big = None  # the largest sets breaker (the first such point on a tie, as argmax)
+    if sl:
+        top = max(v for v, _ in sl)
+        i_big = next(i for v, i in sl if v == top)
+    largest = points[i_big].name if i_big is not None else None
     db = arr.db[:, step, 0]
     ang = arr.angle_b[:, step, 0]
     normal = np.array([p.normal_deg for p in points])
@@ -491,7 +493,7 @@ def peel_at(
                     np.asarray(xs)[keep], np.asarray(ys)[keep], np.asarray(times)[keep], wave_from_deg=mean_from,
                     crest_speed_m_s=cb, breaker_height_m=np.nan_to_num(sets[sel]),
                 )  # fmt: skip
-                return Peel(
+                return dict(
                     direction=r.direction, sweep=r.sweep, angle_deg=_num(r.angle_deg, 1.0),
                     first_point=points[int(sel[r.first_point])].name, largest_point=largest,
                     peel_rate_m_s=_rate(r), method="break-times",
@@ -499,16 +501,23 @@ def peel_at(
             except ValueError as exc:  # coincident breaking positions etc.: fall back to the angle
                 log.debug("peel from break times failed: %s", exc)
     # one break point (or no usable times): the breaking angle at the largest point
-    i = int(idx[np.nanargmax(np.nan_to_num(sets[idx], nan=-1.0))])
+    i = i_big if i_big is not None else int(idx[0])
     r = peel_from_breaking_angle(
         wave_from_deg=float(wave_from[i]),
         contour_normal_from_deg=float(normal[i]),
         crest_speed_m_s=float(crest_speed(float(db[i]))),
     )
-    return Peel(
+    return dict(
         direction=r.direction, sweep=r.sweep, angle_deg=_num(r.angle_deg, 1.0), first_point=points[i].name,
         largest_point=largest, peel_rate_m_s=_rate(r), method="breaking-angle",
     )  # fmt: skip
+
+
+def peel_at(
+    points: Sequence[PointSetup], arr: SpotArrays, step: int, *, offshore_tp: float, offshore_dir: float
+) -> Peel:
+    """Peel of one step (see the module docstring); uses the typical class for positions and times."""
+    return Peel.model_validate(_peel_at(points, arr, step, offshore_tp=offshore_tp, offshore_dir=offshore_dir))
 
 
 # =========================================================================== formatting
@@ -537,66 +546,116 @@ def _heights(values: NDArray[np.float64], units: str) -> HeightClasses:
     return HeightClasses(typical=typical, sets=sets, largest=largest)
 
 
+def _nums(values: Any, step: float = 0.1) -> list[float | None]:
+    """`_num` over an array at once (same rounding: half to even, then to 6 decimals)."""
+    a = np.asarray(values, dtype=float)
+    with np.errstate(invalid="ignore", over="ignore"):
+        r = np.round(np.round(a / step) * step, 6) + 0.0  # + 0.0: no -0.0 (as round() gives)
+    return [None if not math.isfinite(v) else v for v in r.ravel().tolist()]
+
+
+def _degs(values: Any) -> list[float | None]:
+    return [None if v is None else v % 360.0 for v in _nums(values, 1.0)]
+
+
+def _grid(values: NDArray[np.float64], step: float = 0.1, deg: bool = False) -> list[list[float | None]]:
+    """2-D array -> rows of rounded values (None for NaN)."""
+    a = np.asarray(values, dtype=float)
+    flat = _degs(a) if deg else _nums(a, step)
+    n = a.shape[-1] if a.ndim > 1 else 1
+    return [flat[i : i + n] for i in range(0, len(flat), n)]
+
+
 def build_steps(
     batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str
 ) -> list[Step]:
+    """The outlook steps of one batch: plain dicts of rounded values (whole arrays at a time),
+    validated once as a list (pydantic's compiled validator: about half the cost of building
+    each model one by one)."""
     nt = len(batch.times)
+    P = len(points)
+    K = batch.stack.shape[1] - 1  # trains per step: at most K
     # hazard on the sets height where it is largest (0 where nothing breaks)
     sets = arr.hb[:, :, 1]
-    set_max = np.where(
-        np.isfinite(sets).any(axis=0), np.nanmax(np.where(np.isfinite(sets), sets, -np.inf), axis=0), 0.0
-    )
-    set_max = np.maximum(set_max, 0.0)
+    has = np.isfinite(sets)
+    any_has = has.any(axis=0)  # (T,)
+    set_max = np.maximum(np.where(any_has, np.max(np.where(has, sets, -np.inf), axis=0), 0.0), 0.0)
     levels = hazard_level(
         policy,
         set_max,
         period_s=np.nan_to_num(batch.tp, nan=0.0),
         power_kw_m=np.nan_to_num(batch.power_kw_m, nan=0.0),
     )
+    ip = np.where(any_has, np.argmax(np.where(has, sets, -np.inf), axis=0), 0)  # (T,) point of the largest sets
+    tt = np.arange(nt)
+    heights = np.where(any_has[:, None], arr.hb[ip, tt, :3], np.nan)  # (T, 3)
+    if units == "imperial":
+        hrows = _grid(heights / FOOT, 0.5)
+    else:
+        hrows = _grid(heights, 0.1)
+    period = _nums(arr.near_tp[ip, tt, 0])
+    ndir = _degs(arr.near_dir[ip, tt, 0])
+    bdepth = _nums(arr.db[ip, tt, 1])
+    xi = _nums(arr.iribarren[ip, tt, 1], 0.01)
+    btype = arr.breaker_type[ip, tt, 1].tolist()
+    off_h = _nums(batch.hm0)
+    off_tp = _nums(batch.tp)
+    off_dir = _degs(batch.peak_dir)
+    off_pw = _nums(batch.power_kw_m)
+    labels = {lv: policy.label(lv) for lv in set(levels.tolist())}
+    # per point details (T, P) and per train values at the step's point (T, K)
+    det = None
+    if P:
+        det = (
+            _grid(arr.near_hs[:, :, 0].T), _grid(arr.near_tp[:, :, 0].T), _grid(arr.near_dir[:, :, 0].T, deg=True),
+            _grid(arr.hb[:, :, 1].T), _grid(arr.db[:, :, 1].T), _grid(arr.angle_b[:, :, 1].T, 1.0),
+            _grid(arr.kg[:, :, 1].T), _grid(arr.iribarren[:, :, 1].T, 0.01), arr.breaker_type[:, :, 1].T.tolist(),
+        )  # fmt: skip
+    if K:
+        hb_k = arr.hb[ip, tt, 3 : 3 + K]
+        near_k = arr.near_hs[ip, tt, 1 : 1 + K]
+        tr_hb = _grid(hb_k)
+        tr_near = _grid(np.where(near_k >= MIN_HEIGHT_M, near_k, np.nan))
+        tr_ndir = _grid(arr.near_dir[ip, tt, 1 : 1 + K], deg=True)
+        if units == "imperial":
+            tr_hb_ft = _grid(hb_k / FOOT, 0.5)
+    names = [p.name for p in points]
     steps = []
     for t in range(nt):
-        has = np.isfinite(sets[:, t])
-        ip = int(np.argmax(np.where(has, sets[:, t], -np.inf))) if has.any() else 0
-        heights = arr.hb[ip, t, :3] if has.any() else np.full(3, np.nan)
-        hc = _heights(heights, units)
+        hv = hrows[t]
+        hc = dict(typical=hv[0], sets=hv[1], largest=hv[2])
         swells = []
         for k, tr in enumerate(batch.trains[t]):
-            hb_k = arr.hb[ip, t, 3 + k]
             swells.append(
-                Swell(
+                dict(
                     height_m=_num(tr.hm0_m) or 0.0,
                     period_s=_num(tr.tp_s) or 0.0,
                     direction_deg=_deg(tr.peak_direction_deg) or 0.0,
-                    breaker_height_m=_num(hb_k),
-                    nearshore_height_m=_num(arr.near_hs[ip, t, 1 + k])
-                    if arr.near_hs[ip, t, 1 + k] >= MIN_HEIGHT_M
-                    else None,
-                    nearshore_direction_deg=_deg(arr.near_dir[ip, t, 1 + k]),
+                    breaker_height_m=tr_hb[t][k],
+                    nearshore_height_m=tr_near[t][k],
+                    nearshore_direction_deg=tr_ndir[t][k],
                     spread_deg=_num(tr.spread_deg, 1.0),
                     energy_fraction=_num(tr.energy_fraction, 0.01),
                     height_ft=_num(tr.hm0_m / FOOT, 0.5) if units == "imperial" else None,
-                    breaker_height_ft=_num(hb_k / FOOT, 0.5) if units == "imperial" else None,
+                    breaker_height_ft=tr_hb_ft[t][k] if units == "imperial" else None,
                 )  # fmt: skip
             )
-        details = [
-            PointDetail(
-                name=p.name,
-                nearshore_height_m=_num(arr.near_hs[i, t, 0]),
-                nearshore_period_s=_num(arr.near_tp[i, t, 0]),
-                nearshore_direction_deg=_deg(arr.near_dir[i, t, 0]),
-                breaker_height_m=_num(arr.hb[i, t, 1]),
-                breaking_depth_m=_num(arr.db[i, t, 1]),
-                breaking_angle_deg=_num(arr.angle_b[i, t, 1], 1.0),
-                komar_gaudiano_height_m=_num(arr.kg[i, t, 1]),
-                iribarren=_num(arr.iribarren[i, t, 1], 0.01),
-                breaker_type=str(arr.breaker_type[i, t, 1]) or None,
-            )  # fmt: skip
-            for i, p in enumerate(points)
-        ]
-        peel = peel_at(points, arr, t, offshore_tp=float(batch.tp[t]), offshore_dir=float(batch.peak_dir[t]))
+        details = []
+        if det is not None:
+            d0, d1, d2, d3, d4, d5, d6, d7, d8 = (c[t] for c in det)
+            details = [
+                dict(
+                    name=names[i], nearshore_height_m=d0[i], nearshore_period_s=d1[i], nearshore_direction_deg=d2[i],
+                    breaker_height_m=d3[i], breaking_depth_m=d4[i], breaking_angle_deg=d5[i],
+                    komar_gaudiano_height_m=d6[i], iribarren=d7[i], breaker_type=d8[i] or None,
+                )  # fmt: skip
+                for i in range(P)
+            ]
+        peel = _peel_at(points, arr, t, offshore_tp=float(batch.tp[t]), offshore_dir=float(batch.peak_dir[t]))
         lv = int(levels[t])
+        ok = bool(any_has[t])
         steps.append(
-            Step(
+            dict(
                 time=batch.times[t],
                 source=batch.source,
                 input=batch.kind,
@@ -604,27 +663,24 @@ def build_steps(
                 observed_at=batch.observed_at[t] if batch.observed_at else None,
                 breaker_height_m=hc if units == "metric" else None,
                 breaker_height_ft=hc if units == "imperial" else None,
-                period_s=_num(arr.near_tp[ip, t, 0]),
-                nearshore_direction_deg=_deg(arr.near_dir[ip, t, 0]),
-                breaker_type=(str(arr.breaker_type[ip, t, 1]) or None) if has.any() else None,
-                breaking_depth_m=_num(arr.db[ip, t, 1]),
-                iribarren=_num(arr.iribarren[ip, t, 1], 0.01),
-                largest_point=points[ip].name if has.any() else None,
+                period_s=period[t],
+                nearshore_direction_deg=ndir[t],
+                breaker_type=(btype[t] or None) if ok else None,
+                breaking_depth_m=bdepth[t],
+                iribarren=xi[t],
+                largest_point=names[ip[t]] if ok else None,
                 peel=peel,
-                hazard=Hazard(
-                    level=lv, label=policy.label(lv), policy=policy.name, policy_is_default=policy.is_default
+                hazard=dict(
+                    level=lv, label=labels[lv], policy=policy.name, policy_is_default=policy.is_default
                 ),
-                offshore=Offshore(
-                    hm0_m=_num(batch.hm0[t]) or 0.0,
-                    peak_period_s=_num(batch.tp[t]),
-                    direction_deg=_deg(batch.peak_dir[t]),
-                    wave_power_kw_m=_num(batch.power_kw_m[t]),
+                offshore=dict(
+                    hm0_m=off_h[t] or 0.0, peak_period_s=off_tp[t], direction_deg=off_dir[t], wave_power_kw_m=off_pw[t]
                 ),
                 swells=swells,
                 points=details,
             )  # fmt: skip
         )
-    return steps
+    return _STEPS.validate_python(steps)
 
 
 def cautions_for(policy: HazardPolicy) -> list[str]:
