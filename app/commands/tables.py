@@ -56,11 +56,11 @@ def _window(args: argparse.Namespace) -> int:
     from app.services.tables import window_body
 
     with session_scope(ready_database()) as session:
-        body = window_body(session, args.spot_id, threshold=args.threshold)
+        body = window_body(session, args.spot_id, **({} if args.threshold is None else {"threshold": args.threshold}))
     if args.json:
         print_json(body)
         return 0
-    print(f"{body['name']} ({body['spot_id']}), faces {body['faces_deg']:g}°: swell window (K > {args.threshold:g})")
+    print(f"{body['name']} ({body['spot_id']}), faces {body['faces_deg']:g}°: swell window (K > {body['threshold']:g})")
     for p in body["points"]:
         if not p.get("built"):
             print(f"\n  {p['name']}: no table yet (run `shoalcast tables build {body['spot_id']}`)")
@@ -94,6 +94,7 @@ def register(sub: argparse._SubParsersAction) -> None:
 
     w = sub.add_parser("window", help="show a spot's swell window (open directions per period)")
     w.add_argument("spot_id")
-    w.add_argument("--threshold", type=float, default=0.05, help="K above which a direction counts as open")
+    w.add_argument("--threshold", type=float, default=None,
+                   help="K above which a direction counts as open (default 0.15: about 2 %% of the energy)")
     w.add_argument("--json", action="store_true", help="print JSON")
     w.set_defaults(func=_window)
