@@ -133,6 +133,9 @@ class SpotArrival(NamedTuple):
     last_observation: NDArray[np.int64]  # (nt_out,) latest observation index used (-1: none)
     dominant_observation: NDArray[np.int64]  # (nt_out,) observation nearest the most energetic component
     coverage: NDArray[np.float64]  # (nt_out,) fraction of arriving (f, θ) cells available
+    # (nt_out,) energy-weighted coverage: the share of the latest observation's arriving energy
+    # (E Δf over arriving cells) in the cells available at each target time; 0 when none arrives
+    energy_coverage: NDArray[np.float64]
 
 
 def _to_seconds(times: Sequence[Any] | ArrayLike, name: str) -> tuple[NDArray[np.float64], list[Any]]:
@@ -225,4 +228,20 @@ def shift_to_spot(
         last_observation=last.astype(np.int64),
         dominant_observation=dominant.astype(np.int64),
         coverage=flat_av.sum(axis=1) / n_arr,
+        energy_coverage=_energy_coverage(frequency_hz, e[-1], arriving, available),
     )
+
+
+def _energy_coverage(frequency_hz: ArrayLike, latest: NDArray[np.float64], arriving, available):  # type: ignore[no-untyped-def]
+    """Σ_available E Δf / Σ_arriving E Δf with E the latest observation (directions: equal weight)."""
+    f = np.asarray(frequency_hz, dtype=float).ravel()
+    if f.size > 1:
+        d = np.diff(f)
+        df = np.concatenate(([d[0]], 0.5 * (d[1:] + d[:-1]), [d[-1]]))
+    else:
+        df = np.ones(1)
+    cell = latest * df[:, None]
+    total = float(np.sum(np.where(arriving, cell, 0.0)))
+    if not total > 0:
+        return np.zeros(available.shape[0])
+    return np.sum(np.where(available, cell[None], 0.0), axis=(1, 2)) / total

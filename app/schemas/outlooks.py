@@ -114,6 +114,11 @@ class Step(_Model):
     source: str
     input: InputKind
     issued: datetime | None = Field(default=None, description="issue time of a model forecast")
+    arrival_coverage: float | None = Field(
+        default=None,
+        description="arrival forecasts: share of the latest observation's arriving energy that was observed "
+        "in time for this step (steps under 0.9 are not issued)",
+    )
     observed_at: datetime | None = Field(
         default=None, description="observation the arrival forecast mostly comes from"
     )

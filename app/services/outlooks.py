@@ -81,7 +81,7 @@ from models.waves import phase_speed
 
 log = logging.getLogger(__name__)
 
-OUTLOOK_VERSION = "outlook-1"  # part of every cache key: bump when the computation changes
+OUTLOOK_VERSION = "outlook-2"  # part of every cache key: bump when the computation changes
 MAX_TRAINS = 4
 COEFFICIENT_DIRECTIONS_DEG = np.arange(0.0, 360.0, 5.0)
 DIRECTIONAL_METHOD = "mem"
@@ -92,7 +92,11 @@ MAX_ANGLE_DEG = (
     85.0  # nearshore direction to the contour normal is clipped here (shoal_to_breaking needs < 90)
 )
 MIN_SLOPE = 0.005  # a flat bottom at a break point uses this slope (Weggel's fit needs m > 0)
-ARRIVAL_MIN_COVERAGE = 0.5  # an arrival step needs half its arriving components inside the observations
+# An arrival step is used only when its spectrum is (nearly) whole: at least this share of the latest
+# observation's arriving energy lies in components whose emission time is inside the observed span.
+# A partial spectrum (e.g. the fast long-period part not yet observed) would read as a real drop in
+# the surf, so such hours fall back to the model forecast (or are left out) and a note says so.
+ARRIVAL_MIN_ENERGY_COVERAGE = 0.9
 OBSERVED_DISTANCE_M = 1000.0  # a station closer than this to the spot observes the spot itself
 OBSERVATION_LOOKBACK_H = 48.0
 _PRIORITY = {"observed": 0, "arrival-forecast": 1, "model-forecast": 2}
@@ -141,6 +145,7 @@ class OffshoreBatch:
     power_kw_m: NDArray[np.float64]
     issued: datetime | None = None
     observed_at: list[datetime | None] = field(default_factory=list)
+    coverage: list[float] = field(default_factory=list)  # arrival steps: energy share observed
 
     def subset(self, idx: Sequence[int]) -> OffshoreBatch:
         i = np.asarray(idx, dtype=int)
@@ -150,6 +155,7 @@ class OffshoreBatch:
             trains=tuple(self.trains[k] for k in i), hm0=self.hm0[i], tp=self.tp[i], peak_dir=self.peak_dir[i],
             power_kw_m=self.power_kw_m[i], issued=self.issued,
             observed_at=[self.observed_at[k] for k in i] if self.observed_at else [],
+            coverage=[self.coverage[k] for k in i] if self.coverage else [],
         )  # fmt: skip
 
 
@@ -163,6 +169,7 @@ def prepare_offshore(
     kind: str,
     issued: datetime | None = None,
     observed_at: Sequence[datetime | None] | None = None,
+    coverage: Sequence[float] | None = None,
     max_trains: int = MAX_TRAINS,
 ) -> OffshoreBatch:
     """Partition the spectra and build the per-train masked stack (done once per input, shared by spots)."""
@@ -190,6 +197,7 @@ def prepare_offshore(
         source=source, kind=kind, times=list(times), frequency=f, directions=d, efth=e, stack=stack,
         trains=tuple(t[:k] for t in part.trains), hm0=h, tp=tp, peak_dir=peak_dir, power_kw_m=power,
         issued=issued, observed_at=list(observed_at) if observed_at is not None else [],
+        coverage=list(coverage) if coverage is not None else [],
     )  # fmt: skip
 
 
@@ -661,6 +669,7 @@ def build_steps(
                 input=batch.kind,
                 issued=batch.issued,
                 observed_at=batch.observed_at[t] if batch.observed_at else None,
+                arrival_coverage=_num(batch.coverage[t], 0.01) if batch.coverage else None,
                 breaker_height_m=hc if units == "metric" else None,
                 breaker_height_ft=hc if units == "imperial" else None,
                 period_s=period[t],
@@ -903,7 +912,15 @@ def _batches(
         n = int((end - start).total_seconds() // 3600) + 1
         targets = [start + timedelta(hours=h) for h in range(n)]
         arr = shift_to_spot(times, f, d, e, distance_m=dist, bearing_deg=bearing, target_times=targets)
-        keep = [k for k in range(n) if arr.coverage[k] >= ARRIVAL_MIN_COVERAGE and arr.efth[k].max() > 0]
+        whole = arr.energy_coverage >= ARRIVAL_MIN_ENERGY_COVERAGE
+        keep = [k for k in range(n) if whole[k] and arr.efth[k].max() > 0]
+        partial = int(np.sum(~whole & (arr.energy_coverage > 0)))
+        if partial:
+            notes.append(
+                f"source {source_id!r}: {partial} arrival hour(s) left out, under "
+                f"{ARRIVAL_MIN_ENERGY_COVERAGE:.0%} of the latest observation's energy observed "
+                "(the model forecast is used there when there is one)"
+            )
         if keep:
             batches.append(
                 prepare_offshore(
@@ -914,6 +931,7 @@ def _batches(
                     source=source_id,
                     kind="arrival-forecast",
                     observed_at=[times[int(arr.dominant_observation[k])] for k in keep],
+                    coverage=[float(arr.energy_coverage[k]) for k in keep],
                 )  # fmt: skip
             )
     return batches

@@ -131,6 +131,28 @@ def test_outside_observation_span_is_unavailable_not_extrapolated():
     assert np.all(r.efth == 0)
 
 
+def test_energy_coverage_weights_the_latest_observation_by_energy():
+    # two westerly components of equal cell count but energy 9:1 (20 s : 10 s); after the last
+    # observation the fast 20 s component is the first to run out of observed span, so the
+    # coverage by cells is 1/2 while the energy coverage is 1/10 (exact, by construction)
+    f = np.array([1 / 20, 1 / 10])
+    dirs = np.array([270.0])
+    times = [T0 + timedelta(hours=h) for h in range(48)]
+    e = np.zeros((48, 2, 1))
+    e[:, 0, 0], e[:, 1, 0] = 9.0 / 0.05, 1.0 / 0.05  # energy E·Δf = 9 and 1 (Δf = 0.05 Hz both)
+    dist = 300e3
+    d20, d10 = dist / (G / (4 * np.pi * f))  # deep-water group delays [s]
+    # one target with everything observed, one where only the slow 10 s component still is
+    late = times[-1] + timedelta(seconds=0.5 * (d20 + d10))
+    r = shift_to_spot(times, f, dirs, e, distance_m=dist, bearing_deg=90.0, target_times=[times[-1], late])
+    assert r.available[0].all() and r.energy_coverage[0] == pytest.approx(1.0)
+    assert r.available[1].tolist() == [[False], [True]]
+    assert r.coverage[1] == pytest.approx(0.5) and r.energy_coverage[1] == pytest.approx(0.1)
+    # nothing arriving at all: zero, not NaN
+    r = shift_to_spot(times, f, dirs, e, distance_m=dist, bearing_deg=270.0, target_times=[times[-1]])
+    assert r.energy_coverage.tolist() == [0.0]
+
+
 def test_input_validation_names_argument():
     times, f, dirs, e = _pulse_obs(5)
     with pytest.raises(InvalidInput, match="`efth`"):

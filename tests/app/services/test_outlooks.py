@@ -339,6 +339,40 @@ def test_arrivals_from_an_upstream_station_come_long_periods_first(migrated_db: 
     assert first_with(14.0, 18.5) < first_with(7.0, 9.0)
 
 
+def test_partial_arrival_spectra_are_not_issued_and_the_model_forecast_fills_in(migrated_db: str) -> None:
+    # steady westerly swell (16 s 1.0 m + 8 s 0.8 m) seen by a station 200 km west until t_last. Past
+    # t_last + 4.4 h (the 16 s delay, distance / (gT/4π)) the fast 16 s part is unobserved: a spectrum
+    # from the rest would read as a drop of about 40 % in height. Such hours must come from the model
+    # forecast (here a distinct 2 m 12 s sea) and the arrival steps issued keep >= 90 % of the energy.
+    dist_deg = 200_000.0 / (math.pi / 180.0 * 6_371_008.8)
+    steady = fx.swell(1.0, 16.0, 270.0) + fx.swell(0.8, 8.0, 270.0)
+    obs_times = fx.hours(T0 - timedelta(hours=30), 40)  # last at T0 + 9 h
+    with session_scope(migrated_db) as s:
+        buoy = _source(s, "buoy", lat=0.0, lon=-dist_deg)
+        model = _source(s, "model")
+        _spot(s, "beach-c", ["buoy"], lat=0.0, lon=0.0)
+        _spot(s, "beach-d", ["buoy", "model"], lat=0.0, lon=0.0)
+        store_result(s, buoy, _records(obs_times, [steady] * 40), files=["obs"])
+        store_result(s, model, _records(fx.hours(T0, 20), [fx.swell(2.0, 12.0, 270.0)] * 20, issue=T0), files=["m"])
+        alone = outlooks.compute_outlook(s, "beach-c", hours=18, start=T0)
+        mixed = outlooks.compute_outlook(s, "beach-d", hours=18, start=T0)
+    full = 4.0 * math.sqrt(float(np.sum((steady * np.radians(2.0)).sum(axis=1) * np.gradient(fx.FREQ))))
+    t_16 = T0 + timedelta(hours=9) + timedelta(seconds=200_000.0 / (G * 16.0 / (4 * math.pi)))
+    arrivals = [st for st in alone.steps if st.input == "arrival-forecast"]
+    assert arrivals and all(st.time <= t_16 for st in arrivals)
+    assert all(st.arrival_coverage >= 0.9 for st in arrivals)
+    assert all(st.offshore.hm0_m >= 0.94 * full for st in arrivals)  # sqrt(0.9) = 0.949: no false drop
+    assert [st.time for st in alone.steps] == fx.hours(T0, len(alone.steps))  # later hours left out, no gap
+    assert len(alone.steps) < 19 and any("arrival hour(s) left out" in n for n in alone.notes)
+    # with a model forecast: arrivals while whole, then the model's steps, one per hour throughout
+    assert [st.time for st in mixed.steps] == fx.hours(T0, 19)
+    kinds = [st.input for st in mixed.steps]
+    k = kinds.index("model-forecast")
+    assert set(kinds[:k]) == {"arrival-forecast"} and set(kinds[k:]) == {"model-forecast"}
+    assert all(st.offshore.hm0_m == pytest.approx(2.0, abs=0.1) for st in mixed.steps[k:])
+    assert all(st.arrival_coverage is None for st in mixed.steps[k:])
+
+
 def test_cache_unchanged_inputs_do_no_work_and_new_observations_recompute_only_their_spots(
     migrated_db: str, monkeypatch: pytest.MonkeyPatch
 ) -> None:
