@@ -123,7 +123,7 @@ def peel_from_break_times(
     break_time_s: ArrayLike,
     *,
     wave_from_deg: float,
-    crest_speed_m_s: float,
+    crest_speed_m_s: float | ArrayLike,
     breaker_height_m: ArrayLike | None = None,
     closeout_angle_deg: float = CLOSEOUT_ANGLE_DEG,
 ) -> PeelResult:
@@ -132,10 +132,12 @@ def peel_from_break_times(
     x_m, y_m: breaking positions (local grid, x east, y north) in order along the break (either end
     first); break_time_s: when the crest breaks at each (any common origin, e.g. table travel time
     plus the run from reference point to breaking); wave_from_deg: nautical FROM direction of the
-    crest at breaking (fixes which way the surfer faces); crest_speed_m_s: Cb.
+    crest at breaking (fixes which way the surfer faces); crest_speed_m_s: Cb, one value or one per
+    point (the local √(g hb): sin α = Cb·dt/ds holds locally, so each segment uses the mean Cb of
+    its two ends).
 
     The first point is the earliest. Sections on each side of it peel away from it at
-    α = asin(min(1, Cb·Σ|Δt| / Σ Δs)) over that side (the mean slowness of the breaking point);
+    α = asin(min(1, Σ Cb|Δt| / Σ Δs)) over that side (the mean slowness of the breaking point);
     a side peels if α >= `closeout_angle_deg`, and if no side does the break is a closeout.
     """
     x = np.atleast_1d(np.asarray(x_m, dtype=float))
@@ -149,8 +151,11 @@ def peel_from_break_times(
             raise InvalidInput(f"`{name}` must be finite, got NaN/inf at index {int(np.argmax(~np.isfinite(a)))}")
     if n < 2:
         raise InvalidInput("`break_time_s` needs at least 2 break points; use peel_from_breaking_angle for one")
-    if not (math.isfinite(crest_speed_m_s) and crest_speed_m_s > 0):
-        raise InvalidInput(f"`crest_speed_m_s` must be finite and > 0, got {crest_speed_m_s!r}")
+    cbs = np.asarray(crest_speed_m_s, dtype=float)
+    if cbs.ndim == 0:
+        cbs = np.full(n, float(cbs))
+    if cbs.shape != (n,) or not np.all(np.isfinite(cbs) & (cbs > 0)):
+        raise InvalidInput(f"`crest_speed_m_s` must be finite and > 0, one value or {n}, got {crest_speed_m_s!r}")
     if not math.isfinite(wave_from_deg):
         raise InvalidInput(f"`wave_from_deg` must be finite, got {wave_from_deg!r}")
     if not 0 <= closeout_angle_deg <= 90:
@@ -166,7 +171,8 @@ def peel_from_break_times(
         i = int(np.argmax(ds <= 0))
         raise InvalidInput(f"break points {i} and {i + 1} coincide (`x_m`, `y_m`)")
     dt = np.diff(t)
-    seg = np.degrees(np.arcsin(np.minimum(1.0, crest_speed_m_s * np.abs(dt) / ds)))
+    cb_seg = 0.5 * (cbs[1:] + cbs[:-1])
+    seg = np.degrees(np.arcsin(np.minimum(1.0, cb_seg * np.abs(dt) / ds)))
 
     # orient the caller's order so that index increases toward the surfer's right
     right = _heading_right(wave_from_deg)
@@ -175,18 +181,22 @@ def peel_from_break_times(
     first = int(np.argmin(t))
     k = int(np.flatnonzero(order == first)[0])  # position of the first point in surfer-left-to-right order
     tt = t[order]
-    ss = np.concatenate([[0.0], np.cumsum(ds if to_right else ds[::-1])])
+    dss = ds if to_right else ds[::-1]
+    cbo = cb_seg if to_right else cb_seg[::-1]
+    ss = np.concatenate([[0.0], np.cumsum(dss)])
 
-    def side(lo: int, hi: int) -> tuple[float | None, float]:
+    def side(lo: int, hi: int) -> tuple[float | None, float, float]:
         if hi <= lo:
-            return None, 0.0
+            return None, 0.0, 0.0
         length = ss[hi] - ss[lo]
-        slow = np.abs(np.diff(tt[lo : hi + 1])).sum() / length
-        return float(np.degrees(np.arcsin(min(1.0, crest_speed_m_s * slow)))), float(length)
+        run = (cbo[lo:hi] * np.abs(np.diff(tt[lo : hi + 1]))).sum() / length
+        cb_mean = float((cbo[lo:hi] * dss[lo:hi]).sum() / length)
+        return float(np.degrees(np.arcsin(min(1.0, run)))), float(length), cb_mean
 
-    left_a, left_len = side(0, k)
-    right_a, right_len = side(k, n - 1)
-    return _result(left_a, right_a, left_len, right_len, crest_speed_m_s, first, largest, seg, closeout_angle_deg)
+    left_a, left_len, left_cb = side(0, k)
+    right_a, right_len, right_cb = side(k, n - 1)
+    cb = left_cb if left_len >= right_len else right_cb  # the longer side's (it gives the angle)
+    return _result(left_a, right_a, left_len, right_len, cb, first, largest, seg, closeout_angle_deg)
 
 
 def peel_from_breaking_angle(

@@ -424,25 +424,49 @@ def compute_spots(
     return results
 
 
-def _travel_time(table: TransferTable, period_s: float, from_deg: float) -> float:
-    """Table crest travel time for one component: nearest direction bin, linear in period."""
+def _crest_at_reference(table: TransferTable, period_s: float, from_deg: float) -> tuple[float, float]:
+    """(crest travel time [s], nearshore FROM direction [deg]) at the table's reference point for
+    one offshore component: nearest direction bin, linear in period (NaN where blocked)."""
     k = int(np.argmin(np.abs(wrap_180(table.directions_deg - from_deg))))
     col = table.travel_time_s[:, k]
-    ok = np.isfinite(col)
+    nd = table.nearshore_direction_deg[:, k]
+    ok = np.isfinite(col) & np.isfinite(nd)
     if not ok.any():
-        return math.nan
-    return float(np.interp(period_s, table.periods_s[ok], col[ok]))
+        return math.nan, math.nan
+    per = table.periods_s[ok]
+    tt = float(np.interp(period_s, per, col[ok]))
+    r = np.radians(nd[ok])
+    d = math.degrees(math.atan2(np.interp(period_s, per, np.sin(r)), np.interp(period_s, per, np.cos(r)))) % 360.0
+    return tt, d
 
 
-def _run_time(h_ref: float, h_b: float, period: float, slope: float, angle_deg: float) -> float:
-    """Time for the crest to run from the reference depth to the breaking depth over plane contours."""
-    if not h_ref > h_b:
-        return 0.0
-    hh = np.linspace(h_b, h_ref, 17)
-    mid = 0.5 * (hh[1:] + hh[:-1])
-    c = phase_speed(1.0 / period, mid)
-    cos = max(math.cos(math.radians(angle_deg)), 0.05)
-    return float(np.sum(np.diff(hh) / (slope * cos * c)))
+def _travel_time(table: TransferTable, period_s: float, from_deg: float) -> float:
+    """Table crest travel time for one component (see `_crest_at_reference`)."""
+    return _crest_at_reference(table, period_s, from_deg)[0]
+
+
+def _run_time(
+    dx: float, dy: float, h_ref: float, h_b: float, period: float, wave_from_deg: float, normal_deg: float
+) -> float:
+    """Phase (crest) time from the reference point to a point (dx, dy) [m] from it at the breaking
+    depth, over locally straight contours with seaward normal `normal_deg`; the depth runs linearly
+    from h_ref to h_b along the way and the crest, from `wave_from_deg` at the reference point,
+    turns by Snell. The crest's slowness is k/ω: along the contour sin θ/C (constant by Snell),
+    across it cos θ/C, so Δt = D_along·sin θ_ref/C_ref + D_across·mean(cos θ(h)/C(h))."""
+    b = math.radians(normal_deg)
+    n_in = (-math.sin(b), -math.cos(b))  # shoreward unit normal (x east, y north)
+    tang = (-n_in[1], n_in[0])
+    w = math.radians(wave_from_deg)
+    k = (-math.sin(w), -math.cos(w))  # propagation direction
+    f = 1.0 / period
+    c_ref = float(phase_speed(f, h_ref)) if h_ref > 0 else math.nan
+    s_t = (k[0] * tang[0] + k[1] * tang[1]) / c_ref  # along-contour slowness (Snell invariant)
+    d_across = dx * n_in[0] + dy * n_in[1]
+    d_along = dx * tang[0] + dy * tang[1]
+    hh = h_ref + (h_b - h_ref) * (np.arange(16) + 0.5) / 16.0  # midpoints along the way
+    c = phase_speed(f, np.maximum(hh, 1e-3))
+    cos = np.sqrt(np.clip(1.0 - (s_t * c) ** 2, 0.0, None))
+    return float(d_along * s_t + d_across * np.mean(cos / c))
 
 
 def _rate(r: Any) -> float | None:
@@ -475,14 +499,21 @@ def _peel_at(
         xs, ys = [], []
         for i in idx:
             p = points[i]
-            tt = _travel_time(p.table, offshore_tp, offshore_dir)
-            h_ref = p.table.reference_depth_m + wl
-            t_run = _run_time(h_ref, float(db[i]), float(arr.near_tp[i, step, 0]), p.slope, float(ang[i]))
+            tt, from_ref = _crest_at_reference(p.table, offshore_tp, offshore_dir)
             # the breaking position: from the break point along the seaward normal to the breaking depth
             dist = (float(db[i]) - (p.depth_m + wl)) / p.slope
             b = math.radians(p.normal_deg)
-            xs.append(p.x + dist * math.sin(b))
-            ys.append(p.y + dist * math.cos(b))
+            xb, yb = p.x + dist * math.sin(b), p.y + dist * math.cos(b)
+            xs.append(xb)
+            ys.append(yb)
+            if not math.isfinite(tt):
+                times.append(math.nan)
+                continue
+            # + the crest's run from the reference point to that position (not the contour-normal
+            # distance at the break point: on curved contours the reference point lies to one side)
+            h_ref = p.table.reference_depth_m + wl
+            t_run = _run_time(xb - p.table.reference_x, yb - p.table.reference_y, h_ref, float(db[i]), offshore_tp,
+                              from_ref, p.normal_deg)  # fmt: skip
             times.append(tt + t_run)
         keep = [j for j, t in enumerate(times) if math.isfinite(t)]
         if len(keep) >= 2:
@@ -495,7 +526,7 @@ def _peel_at(
                 )
                 % 360.0
             )
-            cb = float(crest_speed(float(np.mean(db[sel]))))
+            cb = crest_speed(db[sel])  # local Cb = √(g hb) at each breaking point
             try:
                 r = peel_from_break_times(
                     np.asarray(xs)[keep], np.asarray(ys)[keep], np.asarray(times)[keep], wave_from_deg=mean_from,

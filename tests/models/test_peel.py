@@ -131,3 +131,25 @@ def test_validation_names_argument():
         peel_from_break_times([0, 1], [0, 1], [0, 1], wave_from_deg=0, crest_speed_m_s=0)
     with pytest.raises(InvalidInput, match="`breaker_depth_m`"):
         crest_speed(-1.0)
+
+
+def test_crest_speed_per_point_uses_each_segments_mean():
+    # a straight break line 30° off the crest (plane-wave kinematics as above), the crest slowing
+    # as it goes: between two points it moves at the mean of their local Cb (a linear change of
+    # speed along the line), so times built that way give back the geometric angle exactly
+    s = np.linspace(0.0, 300.0, 7)
+    ang = np.radians(30.0)  # break line heading 30° east of north, the crest runs north-south
+    x, y = s * np.sin(ang), s * np.cos(ang)
+    cb = np.linspace(5.0, 3.5, 7)
+    seg_cb = 0.5 * (cb[1:] + cb[:-1])
+    t = np.concatenate([[0.0], np.cumsum(np.diff(x) / seg_cb)])  # the crest (heading east) advances Δx
+    r = peel_from_break_times(x, y, t, wave_from_deg=270.0, crest_speed_m_s=cb)
+    assert r.angle_deg == pytest.approx(30.0, abs=1e-9)
+    np.testing.assert_allclose(r.segment_angles_deg, 30.0, atol=1e-9)
+    assert r.crest_speed_m_s == pytest.approx(float(np.mean(seg_cb)), rel=1e-12)  # equal segments
+    # one value for all points is the same as that value repeated
+    a = peel_from_break_times(x, y, t, wave_from_deg=270.0, crest_speed_m_s=4.0)
+    b = peel_from_break_times(x, y, t, wave_from_deg=270.0, crest_speed_m_s=np.full(7, 4.0))
+    assert (a.angle_deg, a.direction, a.peel_rate_m_s) == (b.angle_deg, b.direction, b.peel_rate_m_s)
+    with pytest.raises(InvalidInput, match="`crest_speed_m_s`"):
+        peel_from_break_times(x, y, t, wave_from_deg=270.0, crest_speed_m_s=np.full(6, 4.0))

@@ -16,6 +16,10 @@ from models.transfer import TransferTable, build_table, reference_point
 DX = 50.0
 SLOPE = 0.02  # local beach slope inshore of x = -500
 SHORE_X = 300.0
+# reef spurs: the bed raised by up to RISE m at the shore, fading out by the 10 m contour, e-folding width
+REEFS = {"reef": (8.0, 120.0), "broad-reef": (5.0, 200.0)}  # kind: (RISE m, width m)
+POINT_X = -200.0  # centre of the headland's round tip (on y = 0)
+POINT_R = 300.0
 PERIODS = (8.0, 10.0, 12.0, 14.0, 16.0)
 FREQ = np.linspace(0.04, 0.25, 43)
 DIRS = np.arange(0.0, 360.0, 2.0)
@@ -39,6 +43,13 @@ def grid_of(kind: str) -> DepthGrid:
         depth = _profile(SHORE_X - X)
     elif kind == "ridge":  # the shoreline juts 400 m seaward around y = 0, symmetric in y
         depth = _profile(SHORE_X - 400.0 * np.exp(-((Y / 350.0) ** 2)) - X)
+    elif kind in REEFS:  # the beach with a shallow spur about y = 0, fading out by the 10 m contour
+        rise, width = REEFS[kind]
+        base = _profile(SHORE_X - X)
+        depth = base - rise * np.exp(-((Y / width) ** 2)) * np.clip(1.0 - base / 10.0, 0.0, None)
+    elif kind == "point":  # a headland 500 m out from the beach (stadium, round tip): contours wrap its tip
+        tip = np.where(X < POINT_X, np.hypot(X - POINT_X, Y) - POINT_R, np.abs(Y) - POINT_R)
+        depth = _profile(np.maximum(np.minimum(tip, SHORE_X - X), -1.0))
     elif kind == "jetty":  # the beach with a land strip running 1.8 km seaward north of the point
         depth = _profile(SHORE_X - X)
         depth = np.where((Y >= 250.0) & (Y <= 400.0) & (X >= -1500.0), -1.0, depth)
@@ -49,6 +60,10 @@ def grid_of(kind: str) -> DepthGrid:
 
 def break_x(kind: str, y: float, depth: float = 2.0) -> float:
     """x of the `depth` contour at y (inshore of the 800 m steepening)."""
+    if kind in REEFS:  # base depth d with d - R e^(-(y/W)²) (1 - d/10) = depth
+        rise, width = REEFS[kind]
+        r = rise * np.exp(-((y / width) ** 2))
+        return float(SHORE_X - (depth + r) / (1.0 + r / 10.0) / SLOPE)
     shore = SHORE_X - (400.0 * np.exp(-((y / 350.0) ** 2)) if kind == "ridge" else 0.0)
     return float(shore - depth / SLOPE)
 
@@ -73,6 +88,23 @@ def points_for(kind: str, ys: tuple[float, ...], names: tuple[str, ...] | None =
             PointSetup(
                 name, x, y, table_for(kind, x, y), float(geo.depth), float(geo.slope), float(geo.normal_deg)
             )
+        )
+    return out
+
+
+def point_xy(depth: float, angles_deg: tuple[float, ...]) -> list[tuple[float, float]]:
+    """Points on the `depth` contour round the headland's tip, at angles (math, from +x) about its centre."""
+    r = POINT_R + depth / SLOPE
+    return [(POINT_X + r * np.cos(np.radians(a)), r * np.sin(np.radians(a))) for a in angles_deg]
+
+
+def points_at(kind: str, xys: list[tuple[float, float]]) -> list[PointSetup]:
+    grid = grid_of(kind)
+    out = []
+    for i, (x, y) in enumerate(xys):
+        geo = grid.contour_geometry(x, y)
+        out.append(
+            PointSetup(f"p{i}", x, y, table_for(kind, x, y), float(geo.depth), float(geo.slope), float(geo.normal_deg))
         )
     return out
 

@@ -117,13 +117,69 @@ def test_normal_incidence_is_a_closeout() -> None:
 
 
 def test_symmetric_ridge_at_normal_incidence_breaks_first_on_its_crest_and_runs_both_ways() -> None:
-    _, _, steps = run("ridge", (-500.0, -250.0, 0.0, 250.0, 500.0), fx.swell(1.0, 12.0, 270.0))
+    # a reef spur (bed raised up to 8 m near shore, nothing beyond the 10 m contour, width 120 m):
+    # the crest arrives straight at the reference depth and the breaking contour bulges seaward about
+    # y = 0, faster than refraction can turn the crest, so it peaks: both ways, at >= 20° each side
+    # (the closeout threshold, common practice), symmetric
+    _, _, steps = run("reef", (-150.0, -75.0, 0.0, 75.0, 150.0), fx.swell(1.0, 12.0, 270.0))
     peel = steps[0].peel
-    assert peel.first_point == "p2"
-    assert peel.sweep == "both"
-    assert peel.direction in ("both", "closeout")
-    if peel.direction == "both":
-        assert peel.angle_deg >= 20
+    assert (peel.first_point, peel.sweep, peel.direction) == ("p2", "both", "both")
+    assert peel.angle_deg >= 20 and peel.method == "break-times"
+    r = _peel_result("reef", (-150.0, -75.0, 0.0, 75.0, 150.0), 270.0)
+    assert r.left_angle_deg == pytest.approx(r.right_angle_deg, abs=0.5)
+
+
+def test_a_broad_spur_breaks_first_on_its_axis_with_the_run_to_the_breaking_position() -> None:
+    # a gentler spur (5 m, 200 m): the reference points of the flank points lie off to the side of
+    # their break points' normals, so the crest's run must go from the reference point to the
+    # breaking position (timing it along the local normal made a flank point break first)
+    _, _, steps = run("broad-reef", (-200.0, -100.0, 0.0, 100.0, 200.0), fx.swell(1.0, 12.0, 270.0))
+    assert (steps[0].peel.first_point, steps[0].peel.sweep) == ("p2", "both")
+
+
+def test_a_broad_promontory_at_normal_incidence_breaks_first_on_its_axis() -> None:
+    # the shoreline juts 400 m out at every depth: refraction wraps the crest on the way in, so at the
+    # flanks it breaks within ~7-11° of the contours (Snell, the single-point angles) and the peel
+    # from break times agrees (a closeout by the 20° rule); it still breaks first on the axis
+    pts, arr, steps = run("ridge", (-500.0, -250.0, 0.0, 250.0, 500.0), fx.swell(1.0, 12.0, 270.0))
+    peel = steps[0].peel
+    assert (peel.first_point, peel.sweep) == ("p2", "both")
+    flank = float(np.max(np.abs(arr.angle_b[:, 0, 0])))
+    assert abs(peel.angle_deg - flank) <= 6.0
+
+
+def test_a_point_where_the_contours_wrap_gives_a_large_peel_angle() -> None:
+    # break points round the south side of a headland's round tip (2 m contour, 190°-270° about its
+    # centre); a westerly swell breaks first at the tip and runs round it: to the right of a surfer
+    # riding toward shore (heading east), with a peel angle above the 20° closeout threshold, while
+    # the same swell on the straight beach is a closeout (0°)
+    pts = fx.points_at("point", fx.point_xy(2.0, (190.0, 210.0, 230.0, 250.0, 270.0)))
+    e = fx.swell(1.0, 12.0, 270.0)[None]
+    batch = outlooks.prepare_offshore(fx.hours(T0, 1), fx.FREQ, fx.DIRS, e, source="test", kind="model-forecast")
+    arr = outlooks.compute_spots(batch, [pts])[0]
+    peel = outlooks.build_steps(batch, pts, arr, DEFAULT_POLICY, "metric")[0].peel
+    assert (peel.first_point, peel.direction, peel.method) == ("p0", "right", "break-times")
+    assert peel.angle_deg >= 20
+    _, _, beach = run("beach", (-200.0, 0.0, 200.0), fx.swell(1.0, 12.0, 270.0))
+    assert beach[0].peel.angle_deg < 5
+
+
+def _peel_result(kind: str, ys: tuple[float, ...], from_deg: float):  # type: ignore[no-untyped-def]
+    """The models.peel result behind a step's peel (both side angles)."""
+    import unittest.mock as mock
+
+    from models import peel as peel_mod
+
+    seen = []
+    real = peel_mod.peel_from_break_times
+
+    def spy(*a, **k):  # type: ignore[no-untyped-def]
+        seen.append(real(*a, **k))
+        return seen[-1]
+
+    with mock.patch.object(outlooks, "peel_from_break_times", spy):
+        run(kind, ys, fx.swell(1.0, 12.0, from_deg))
+    return seen[0]
 
 
 # --------------------------------------------------------------------------- sheltering
