@@ -3,9 +3,12 @@
 matrix product E(f, θ)·K²Δθ alone, weights precomputed) on the same spectra and tables.
 
 The outlook side is everything after the offshore spectra are partitioned (which is shared by all
-spots of a source and done once): `models.transfer.apply` per break point on the whole spectrum and
-each train, moments, breaking of three height classes and each train (one vectorised
-`shoal_to_breaking` for all spots), peel, hazard and the pydantic steps.
+spots of a source and done once): the table application (memoised per-table weights, one batched
+matrix product for all points, steps and trains), moments, breaking of three height classes and
+each train (one vectorised `shoal_to_breaking` for all spots), peel, hazard and the validated
+steps. The weights are built once per (table, spectral grid) and reported apart (a service
+builds them on its first outlook after a table changes). Two rows: the whole outlook, and its
+numerics without formatting the steps.
 """
 
 from __future__ import annotations
@@ -16,7 +19,14 @@ from datetime import UTC, datetime, timedelta
 
 import numpy as np
 
-from app.services.outlooks import PointSetup, _nearshore, build_steps, compute_spots, prepare_offshore
+from app.services.outlooks import (
+    PointSetup,
+    _nearshore_many,
+    build_steps,
+    compute_spots,
+    prepare_offshore,
+    transfer_weights,
+)
 from models.hazard import DEFAULT_POLICY
 from models.spectra import cos2s, jonswap
 from models.transfer import DEFAULT_PERIODS_S, TransferTable, _direction_matrix
@@ -80,14 +90,13 @@ def run(quick: bool = False) -> list[dict]:
     rng = np.random.default_rng(11)
     spots = _spots(n, rng)
     batch = _offshore(nt)
+    total = n * nt
 
     t = time.perf_counter()
-    arrays = compute_spots(batch, spots)
-    steps = [
-        build_steps(batch, pts, arr, DEFAULT_POLICY, "metric") for pts, arr in zip(spots, arrays, strict=True)
-    ]
-    ours = time.perf_counter() - t
-    assert sum(len(s) for s in steps) == n * nt
+    for pts in spots:
+        for p in pts:
+            transfer_weights(p.table, batch.frequency, batch.directions)
+    weights = time.perf_counter() - t
 
     W = [_weights(pts[0].table) for pts in spots]
     stack = batch.stack
@@ -97,24 +106,38 @@ def run(quick: bool = False) -> list[dict]:
     bare = time.perf_counter() - t
 
     t = time.perf_counter()
-    compute_spots(batch, spots)
+    arrays = compute_spots(batch, spots)
     numeric = time.perf_counter() - t
     t = time.perf_counter()
-    for pts in spots:
-        _nearshore(batch, pts)  # models.transfer.apply per point plus moments
+    steps = [
+        build_steps(batch, pts, arr, DEFAULT_POLICY, "metric") for pts, arr in zip(spots, arrays, strict=True)
+    ]
+    formatting = time.perf_counter() - t
+    assert sum(len(s) for s in steps) == total
+    ours = numeric + formatting
+
+    t = time.perf_counter()
+    _nearshore_many(batch, [p for pts in spots for p in pts])  # the table application + moments
     applied = time.perf_counter() - t
 
-    total = n * nt
+    label = f"{n} spots x {nt} hourly steps, {stack.shape[1] - 1} trains, 1 point each"
     return [
         {
-            "benchmark": f"outlook steps ({n} spots x {nt} hourly steps, {stack.shape[1] - 1} trains, 1 point each)",
-            "result": f"{total / ours:,.0f} steps/s ({ours:.2f} s; numerics without formatting {numeric:.2f} s, of which "
-            f"transfer.apply + moments {applied:.2f} s, the rest mostly shoal_to_breaking); "
-            f"bare table product {total / bare:,.0f} steps/s ({bare:.3f} s)",
+            "benchmark": f"outlook steps ({label})",
+            "result": f"{total / ours:,.0f} steps/s ({ours:.2f} s: numerics {numeric:.2f} s, of which table "
+            f"application + moments {applied:.2f} s; steps (peel, rounding, validation) {formatting:.2f} s); "
+            f"bare table product {total / bare:,.0f} steps/s ({bare:.3f} s); weights built once {weights:.2f} s",
             "ratio": bare / ours,
             "ratio_of": "outlook steps/s / bare table-application (matrix product) steps/s",
             "target": ">= 0.3",
-        }
+        },
+        {
+            "benchmark": f"outlook numerics without the step objects ({label})",
+            "result": f"{total / numeric:,.0f} steps/s ({numeric:.2f} s) vs bare {total / bare:,.0f} steps/s",
+            "ratio": bare / numeric,
+            "ratio_of": "outlook numerics steps/s / bare table-application steps/s",
+            "target": ">= 0.3 (for the whole outlook)",
+        },
     ]
 
 

@@ -34,13 +34,15 @@ height classes of all spots of a call go through one `shoal_to_breaking`) and fo
 
 from __future__ import annotations
 
+import gc
 import hashlib
 import io
 import json
 import logging
 import math
 import weakref
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from datetime import UTC, datetime, timedelta
 from typing import Any
@@ -146,6 +148,7 @@ class OffshoreBatch:
     issued: datetime | None = None
     observed_at: list[datetime | None] = field(default_factory=list)
     coverage: list[float] = field(default_factory=list)  # arrival steps: energy share observed
+    memo: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)  # per-batch formatting
 
     def subset(self, idx: Sequence[int]) -> OffshoreBatch:
         i = np.asarray(idx, dtype=int)
@@ -541,13 +544,18 @@ def _peel_at(
                 log.debug("peel from break times failed: %s", exc)
     # one break point (or no usable times): the breaking angle at the largest point
     i = i_big if i_big is not None else int(idx[0])
+    return _peel_one(points[i], float(ang[i]), float(db[i]), largest)
+
+
+def _peel_one(p: PointSetup, angle_b: float, db: float, largest: str | None) -> dict[str, Any]:
+    """Peel at one break point from its breaking angle to the contour (`peel_from_breaking_angle`)."""
     r = peel_from_breaking_angle(
-        wave_from_deg=float(wave_from[i]),
-        contour_normal_from_deg=float(normal[i]),
-        crest_speed_m_s=float(crest_speed(float(db[i]))),
+        wave_from_deg=(p.normal_deg + angle_b) % 360.0,  # FROM direction of the crest at breaking
+        contour_normal_from_deg=p.normal_deg,
+        crest_speed_m_s=float(crest_speed(db)),
     )
     return dict(
-        direction=r.direction, sweep=r.sweep, angle_deg=_num(r.angle_deg, 1.0), first_point=points[i].name,
+        direction=r.direction, sweep=r.sweep, angle_deg=_num(r.angle_deg, 1.0), first_point=p.name,
         largest_point=largest, peel_rate_m_s=_rate(r), method="breaking-angle",
     )  # fmt: skip
 
@@ -590,11 +598,20 @@ def _nums(values: Any, step: float = 0.1) -> list[float | None]:
     a = np.asarray(values, dtype=float)
     with np.errstate(invalid="ignore", over="ignore"):
         r = np.round(np.round(a / step) * step, 6) + 0.0  # + 0.0: no -0.0 (as round() gives)
-    return [None if not math.isfinite(v) else v for v in r.ravel().tolist()]
+    return _none_for_nan(r)
+
+
+def _none_for_nan(r: NDArray[np.float64]) -> list[float | None]:
+    out: list[float | None] = r.ravel().tolist()
+    for i in np.flatnonzero(~np.isfinite(r.ravel())).tolist():
+        out[i] = None
+    return out
 
 
 def _degs(values: Any) -> list[float | None]:
-    return [None if v is None else v % 360.0 for v in _nums(values, 1.0)]
+    a = np.asarray(values, dtype=float)
+    with np.errstate(invalid="ignore"):
+        return _none_for_nan((np.round(a) + 0.0) % 360.0)  # as _deg: whole degrees, then mod 360
 
 
 def _grid(values: NDArray[np.float64], step: float = 0.1, deg: bool = False) -> list[list[float | None]]:
@@ -602,10 +619,55 @@ def _grid(values: NDArray[np.float64], step: float = 0.1, deg: bool = False) -> 
     a = np.asarray(values, dtype=float)
     flat = _degs(a) if deg else _nums(a, step)
     n = a.shape[-1] if a.ndim > 1 else 1
+    if n == 1:
+        return [[v] for v in flat]
     return [flat[i : i + n] for i in range(0, len(flat), n)]
 
 
+def _offshore_parts(batch: OffshoreBatch, units: str) -> tuple[Any, ...]:
+    """The offshore values of each step and its trains, rounded once per batch (shared by its spots)."""
+    key = f"offshore-{units}"
+    if key not in batch.memo:
+        swells = [
+            [
+                {
+                    "height_m": _num(tr.hm0_m) or 0.0, "period_s": _num(tr.tp_s) or 0.0,
+                    "direction_deg": _deg(tr.peak_direction_deg) or 0.0, "spread_deg": _num(tr.spread_deg, 1.0),
+                    "energy_fraction": _num(tr.energy_fraction, 0.01),
+                    **({"height_ft": _num(tr.hm0_m / FOOT, 0.5)} if units == "imperial" else {}),
+                }
+                for tr in trains
+            ]
+            for trains in batch.trains
+        ]  # fmt: skip
+        batch.memo[key] = (
+            _nums(batch.hm0), _nums(batch.tp), _degs(batch.peak_dir), _nums(batch.power_kw_m), swells
+        )
+    return batch.memo[key]
+
+
+@contextmanager
+def _no_gc() -> Iterator[None]:
+    """Pause the cyclic garbage collector while building many small acyclic objects (dicts, lists,
+    models): its passes cost more than the building (measured: about half of the step time);
+    reference counting still frees everything. Restores the previous state."""
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
+
+
 def build_steps(
+    batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str
+) -> list[Step]:
+    with _no_gc():
+        return _build_steps(batch, points, arr, policy, units)
+
+
+def _build_steps(
     batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str
 ) -> list[Step]:
     """The outlook steps of one batch: plain dicts of rounded values (whole arrays at a time),
@@ -637,10 +699,7 @@ def build_steps(
     bdepth = _nums(arr.db[ip, tt, 1])
     xi = _nums(arr.iribarren[ip, tt, 1], 0.01)
     btype = arr.breaker_type[ip, tt, 1].tolist()
-    off_h = _nums(batch.hm0)
-    off_tp = _nums(batch.tp)
-    off_dir = _degs(batch.peak_dir)
-    off_pw = _nums(batch.power_kw_m)
+    off_h, off_tp, off_dir, off_pw, offshore_swells = _offshore_parts(batch, units)
     labels = {lv: policy.label(lv) for lv in set(levels.tolist())}
     # per point details (T, P) and per train values at the step's point (T, K)
     det = None
@@ -659,26 +718,19 @@ def build_steps(
         if units == "imperial":
             tr_hb_ft = _grid(hb_k / FOOT, 0.5)
     names = [p.name for p in points]
+    if P == 1:
+        one_hb, one_sets = arr.hb[0, :, 0].tolist(), arr.hb[0, :, 1].tolist()
+        one_db, one_ang = arr.db[0, :, 0].tolist(), arr.angle_b[0, :, 0].tolist()
     steps = []
     for t in range(nt):
         hv = hrows[t]
         hc = dict(typical=hv[0], sets=hv[1], largest=hv[2])
-        swells = []
-        for k, tr in enumerate(batch.trains[t]):
-            swells.append(
-                dict(
-                    height_m=_num(tr.hm0_m) or 0.0,
-                    period_s=_num(tr.tp_s) or 0.0,
-                    direction_deg=_deg(tr.peak_direction_deg) or 0.0,
-                    breaker_height_m=tr_hb[t][k],
-                    nearshore_height_m=tr_near[t][k],
-                    nearshore_direction_deg=tr_ndir[t][k],
-                    spread_deg=_num(tr.spread_deg, 1.0),
-                    energy_fraction=_num(tr.energy_fraction, 0.01),
-                    height_ft=_num(tr.hm0_m / FOOT, 0.5) if units == "imperial" else None,
-                    breaker_height_ft=tr_hb_ft[t][k] if units == "imperial" else None,
-                )  # fmt: skip
-            )
+        swells = [
+            dict(off, breaker_height_m=tr_hb[t][k], nearshore_height_m=tr_near[t][k],
+                 nearshore_direction_deg=tr_ndir[t][k],
+                 **({"breaker_height_ft": tr_hb_ft[t][k]} if units == "imperial" else {}))
+            for k, off in enumerate(offshore_swells[t])
+        ]  # fmt: skip
         details = []
         if det is not None:
             d0, d1, d2, d3, d4, d5, d6, d7, d8 = (c[t] for c in det)
@@ -690,7 +742,14 @@ def build_steps(
                 )  # fmt: skip
                 for i in range(P)
             ]
-        peel = _peel_at(points, arr, t, offshore_tp=float(batch.tp[t]), offshore_dir=float(batch.peak_dir[t]))
+        if P == 1:  # the common single-point spot: straight from the per-step lists
+            if not math.isfinite(one_hb[t]):
+                peel = dict(direction=None, angle_deg=None, first_point=None)
+            else:
+                big = names[0] if math.isfinite(one_sets[t]) else None
+                peel = _peel_one(points[0], one_ang[t], one_db[t], big)
+        else:
+            peel = _peel_at(points, arr, t, offshore_tp=float(batch.tp[t]), offshore_dir=float(batch.peak_dir[t]))
         lv = int(levels[t])
         ok = bool(any_has[t])
         steps.append(
