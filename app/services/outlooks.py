@@ -40,6 +40,7 @@ import io
 import json
 import logging
 import math
+import threading
 import weakref
 from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
@@ -1144,26 +1145,55 @@ def outlook_key(
     return hashlib.sha256(json.dumps(doc, sort_keys=True, default=str).encode()).hexdigest()
 
 
+_inflight: dict[tuple[str, str], threading.Lock] = {}
+_inflight_guard = threading.Lock()
+
+
+def _inflight_lock(spot_id: str, variant: str) -> threading.Lock:
+    with _inflight_guard:
+        return _inflight.setdefault((spot_id, variant), threading.Lock())
+
+
+def _cached_row(session: Session, spot_id: str, variant: str) -> OutlookCache | None:
+    return session.scalars(
+        select(OutlookCache)
+        .where(OutlookCache.spot_id == spot_id, OutlookCache.variant == variant)
+        .execution_options(populate_existing=True)
+    ).first()
+
+
 def _get(session: Session, spot_id: str, **options: Any) -> tuple[OutlookBody, bool]:
     key = outlook_key(session, spot_id, **options)
     variant = _variant(options.get("hours", 72), options.get("start"), options.get("units", "metric"),
                        options.get("agency_id"), _water_key(options.get("water_level_m", 0.0)))  # fmt: skip
-    row = session.scalars(
-        select(OutlookCache).where(OutlookCache.spot_id == spot_id, OutlookCache.variant == variant)
-    ).first()
+    row = _cached_row(session, spot_id, variant)
     if row is not None and row.input_hash == key:
         if row.stale:  # marked by ingest, but nothing it uses changed
             row.stale = False
             session.flush()
         return OutlookBody.model_validate(row.body), False
-    body = compute_outlook(session, spot_id, **options)
-    data = body.model_dump(mode="json")
-    if row is None:
-        row = OutlookCache(spot_id=spot_id, variant=variant)
-        session.add(row)
-    row.input_hash, row.stale, row.computed_at, row.body = key, False, utcnow(), data
-    session.flush()
-    return body, True
+    # Single flight: when many requests find the same outlook out of date at once (pollers right
+    # after an ingest), one computes it and the others answer with the previous outlook meanwhile
+    # rather than all computing the same thing (only a first-ever outlook makes them wait).
+    lock = _inflight_lock(spot_id, variant)
+    if not lock.acquire(blocking=row is None):
+        assert row is not None
+        return OutlookBody.model_validate(row.body), False
+    try:
+        row = _cached_row(session, spot_id, variant)
+        if row is not None and row.input_hash == key:  # computed while we waited
+            return OutlookBody.model_validate(row.body), False
+        body = compute_outlook(session, spot_id, **options)
+        data = body.model_dump(mode="json")
+        if row is None:
+            row = OutlookCache(spot_id=spot_id, variant=variant)
+            session.add(row)
+        row.input_hash, row.stale, row.computed_at, row.body = key, False, utcnow(), data
+        session.flush()
+        session.commit()  # publish before releasing the lock, so waiters find it
+        return body, True
+    finally:
+        lock.release()
 
 
 def get_outlook(

@@ -521,3 +521,54 @@ def test_outlook_command_prints_a_table_with_cautions_and_json(
     assert args.func(args) == 0
     data = json.loads(capsys.readouterr().out)
     assert data["spot_id"] == "beach-c" and len(data["steps"]) == 3 and data["units"] == "metric"
+
+
+def test_concurrent_requests_for_an_out_of_date_outlook_compute_it_once(
+    migrated_db: str, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    # pollers arriving together right after an ingest: one computes, the rest answer with the
+    # previous outlook meanwhile (no stampede of identical computations)
+    import threading
+
+    issue = T0 - timedelta(hours=6)
+    with session_scope(migrated_db) as s:
+        src = _source(s, "feed-x")
+        _spot(s, "spot-x", ["feed-x"])
+        store_result(s, src, _records(fx.hours(T0, 3), [fx.swell(1.0, 10.0, 270.0)] * 3, issue=issue), files=["x"])
+    with session_scope(migrated_db) as s:
+        before = outlooks.get_outlook(s, "spot-x", hours=2, start=T0)
+    with session_scope(migrated_db) as s:
+        src = s.get(Source, "feed-x")
+        store_result(s, src, _records(fx.hours(T0, 3), [fx.swell(2.0, 12.0, 270.0)] * 3, issue=T0), files=["y"])
+
+    calls: list[str] = []
+    release = threading.Event()
+    real = outlooks.compute_outlook
+
+    def slow(session, spot_id, **kw):  # type: ignore[no-untyped-def]
+        calls.append(spot_id)
+        release.wait(10)
+        return real(session, spot_id, **kw)
+
+    monkeypatch.setattr(outlooks, "compute_outlook", slow)
+    results: list[float] = []
+
+    def poll() -> None:
+        with session_scope(migrated_db) as s:
+            body = outlooks.get_outlook(s, "spot-x", hours=2, start=T0)
+            results.append(body.steps[0].offshore.hm0_m)
+
+    first = threading.Thread(target=poll)
+    first.start()
+    while not calls:  # the first request is computing
+        threading.Event().wait(0.01)
+    others = [threading.Thread(target=poll) for _ in range(3)]
+    for t in others:
+        t.start()
+    for t in others:
+        t.join(20)
+    release.set()
+    first.join(20)
+    assert calls == ["spot-x"]  # computed once
+    old = before.steps[0].offshore.hm0_m
+    assert sorted(results) == sorted([old, old, old, results[-1]]) and results[-1] != old
