@@ -9,7 +9,8 @@ Each spot has its own grid in local metres (x east, y north) about the spot's no
 depth positive down and land <= 0, built from analytic shapes:
 
 * a **shelf** (a plain 1:55 slope for the beach) whose depth is a function of the distance to the shoreline (slope ``1:45`` at the
-  shore, levelling off toward ``110 m``), so contours follow the coast round headlands and islands;
+  shore (``1:100`` round the point), levelling off toward ``110 m``), so contours follow the coast round
+  headlands and islands;
 * the spot's **feature** (headland, ridge, island, plain beach);
 * gentle **smooth noise** (a sum of long plane waves with phases from a fixed seed, about 1 %
   of the depth, none in the surf zone), so the grids look like survey data but stay deterministic.
@@ -59,6 +60,7 @@ SHORE_SLOPE = 1.0 / 45.0  # seabed slope at the waterline (common practice for a
 SHELF_DEPTH_M = 110.0  # depth the shelf levels off toward
 LAND_SLOPE = 1.0 / 20.0
 LAND_MIN_M = -25.0  # highest land [m above datum], clipped so grids stay small numbers
+POINT_SHORE_SLOPE = 1.0 / 100.0  # a long, gently shoaling point: the crest wraps along its curved contours
 BEACH_SLOPE = 1.0 / 55.0  # the exposed beach: one plain slope out to ~95 m at the grid's west edge
 BREAK_DEPTH_M = 2.5  # break points sit on this contour
 PERIOD_MIN_S, PERIOD_MAX_S, PERIOD_COUNT = 5.0, 20.0, 12  # table periods of the demo profiles
@@ -118,9 +120,11 @@ SPOTS: tuple[DemoSpot, ...] = (
         y_range=(-3000.0, 2400.0),
         spacing_m=40.0,
         break_lines=(
-            ("tip", (-900.0, 600.0), (-900.0, -1500.0)),
-            ("middle", (-300.0, 800.0), (-300.0, -1500.0)),
-            ("inside", (300.0, 1000.0), (300.0, -1500.0)),
+            ("tip", (-2700.0, -950.0), (-1000.0, -950.0)),
+            ("outside", (-2400.0, 100.0), (-1300.0, -1000.0)),
+            ("middle", (-1400.0, 600.0), (-1400.0, -1500.0)),
+            ("inside", (-1100.0, 600.0), (-1100.0, -1500.0)),
+            ("deep inside", (-800.0, 800.0), (-800.0, -1500.0)),
         ),
     ),
     DemoSpot(
@@ -318,6 +322,8 @@ def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np
         if spot.kind == "bay":
             sdi = island_at(np.stack([y.ravel(), x.ravel()], axis=-1)).reshape(x.shape)
             h = np.minimum(_shelf(sd_xy, BAY_SHORE_SLOPE, BAY_FLOOR_M), _shelf(sdi, BAY_ISLAND_SLOPE, BAY_FLOOR_M))
+        elif spot.kind == "point":
+            h = _shelf(sd_xy, POINT_SHORE_SLOPE)
         else:
             h = _shelf(sd_xy)
         if spot.kind == "ridge":

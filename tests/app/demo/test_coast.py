@@ -73,8 +73,11 @@ def test_open_ocean_edges_are_deep(grids):
             continue
         west = g.depth[:, 0]
         off_crest = np.abs(g.y) > 1000.0 if kind == "ridge" else np.ones(g.y.size, bool)
-        assert west[off_crest].min() > 60.0 and west.max() <= coast.SHELF_DEPTH_M, kind
-        assert west.min() > 40.0, kind  # the ridge crest itself runs out to sea
+        # the point's shelf shoals gently (1:100 at the shore), so its west edge is shallower but
+        # still well above the 20 m an open edge needs
+        floor = 25.0 if kind == "point" else 60.0
+        assert west[off_crest].min() > floor and west.max() <= coast.SHELF_DEPTH_M, kind
+        assert west.min() > min(floor, 40.0), kind  # the ridge crest itself runs out to sea
 
 
 def test_esri_files_read_back_with_the_project_reader(written, grids):
