@@ -9,6 +9,7 @@ from __future__ import annotations
 import bisect
 import hashlib
 import logging
+import threading
 from datetime import datetime, timedelta
 
 from sqlalchemy import func, select
@@ -137,4 +138,25 @@ def hazard_version(session: Session, agency_id: str, *, now: datetime | None = N
     return hashlib.sha256("\n".join(sorted(parts)).encode()).hexdigest()[:20]
 
 
-__all__ = ["agency_hazards", "hazard_version"]
+_memo: dict[tuple[str, str], AgencyHazards] = {}
+_memo_lock = threading.Lock()
+_MEMO_SIZE = 256
+
+
+def agency_hazards_at(session: Session, agency_id: str, version: str) -> AgencyHazards:
+    """`agency_hazards` memoised per data version (`hazard_version`): hundreds of pollers between two
+    ingests share one computation per process."""
+    key = (agency_id, version)
+    with _memo_lock:
+        hit = _memo.get(key)
+    if hit is not None:
+        return hit
+    body = agency_hazards(session, agency_id)
+    with _memo_lock:
+        if len(_memo) >= _MEMO_SIZE:
+            _memo.clear()
+        _memo[key] = body
+    return body
+
+
+__all__ = ["agency_hazards", "agency_hazards_at", "hazard_version"]

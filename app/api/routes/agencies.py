@@ -73,8 +73,9 @@ def get_agency(agency_id: str, request: Request, session: SessionDep, settings: 
 )
 def get_hazards(agency_id: str, request: Request, session: SessionDep) -> Response:
     hazards = _hazards_module()
-    etag = etag_for("hazards-1", hazards.hazard_version(session, agency_id))
-    return conditional(request, etag, lambda: json_response(hazards.agency_hazards(session, agency_id)),
+    version = hazards.hazard_version(session, agency_id)
+    etag = etag_for("hazards-1", version)
+    return conditional(request, etag, lambda: json_response(hazards.agency_hazards_at(session, agency_id, version)),
                        cache=cache_control(None, poll=True))  # type: ignore[arg-type]
 
 
