@@ -11,7 +11,7 @@ depth positive down and land <= 0, built from analytic shapes:
 * a **shelf** (a plain 1:55 slope for the beach) whose depth is a function of the distance to the shoreline (slope ``1:45`` at the
   shore (``1:100`` round the point), levelling off toward ``110 m``), so contours follow the coast round
   headlands and islands;
-* the spot's **feature** (headland, ridge, island, plain beach);
+* the spot's **feature** (headland, a finite offshore ridge with a salient behind it, island, plain beach);
 * gentle **smooth noise** (a sum of long plane waves with phases from a fixed seed, about 1 %
   of the depth, none in the surf zone), so the grids look like survey data but stay deterministic.
 
@@ -134,15 +134,15 @@ SPOTS: tuple[DemoSpot, ...] = (
         latitude=-41.700,
         longitude=_LON,
         faces_deg=270.0,
-        description="A submarine ridge runs out to sea and focuses long-period swell into a peak that peels both ways.",
+        description="A submarine ridge offshore focuses long-period swell into a peak that peels both ways.",
         file_format="netcdf",
         x_range=(-4500.0, 1500.0),
         y_range=(-3000.0, 3000.0),
         spacing_m=40.0,
         break_lines=(
-            ("south shoulder", (-1500.0, -260.0), (1500.0, -260.0)),
-            ("peak", (-1500.0, 0.0), (1500.0, 0.0)),
-            ("north shoulder", (-1500.0, 260.0), (1500.0, 260.0)),
+            ("south shoulder", (-1000.0, -250.0), (1500.0, -250.0)),
+            ("peak", (-1000.0, 0.0), (1500.0, 0.0)),
+            ("north shoulder", (-1000.0, 250.0), (1500.0, 250.0)),
         ),
     ),
     DemoSpot(
@@ -197,8 +197,22 @@ def _land_point(x, y):
     return x >= shore
 
 
+# The ridge: a finite submarine ridge (an elongated shoal) on the shelf west of a straight beach,
+# aligned with the west swell, that tapers out well before the 10 m contour. Swell slows over it
+# and its crest bends round it like light through a lens, converging behind it toward the beach:
+# long periods feel the shoal more (they are "shallower" waves in 30-60 m), so the focusing grows
+# with period. The shoreline bulges slightly seaward in its lee (a salient, as behind real
+# offshore shoals), so the focused peak breaks first and peels both ways.
+RIDGE_CENTRE_X_M = -2000.0  # the shoal's centre on y = 0, in about 30 m of shelf [m]
+RIDGE_HALF_LENGTH_M = 900.0  # e-folding half-length along the axis (east-west) [m]
+RIDGE_HALF_WIDTH_M = 250.0  # e-folding half-width across it [m]
+RIDGE_RELIEF = 0.6  # the crest rises to 40 % of the surrounding depth
+RIDGE_SALIENT_M, RIDGE_SALIENT_HALF_WIDTH_M = 300.0, 400.0  # the shoreline's seaward bulge behind it [m]
+RIDGE_SHORE_SLOPE = 1.0 / 90.0  # gentle, so a larger (focused) breaker breaks well seaward of a smaller one
+
+
 def _land_ridge(x, y):
-    return x >= 900.0 + 40.0 * np.sin(y / 900.0)
+    return x >= 900.0 - RIDGE_SALIENT_M * _gauss(y / RIDGE_SALIENT_HALF_WIDTH_M)
 
 
 # The bay: a beach facing north-north-west behind an island, on a flat floor. Flat, so swell
@@ -324,12 +338,14 @@ def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np
             h = np.minimum(_shelf(sd_xy, BAY_SHORE_SLOPE, BAY_FLOOR_M), _shelf(sdi, BAY_ISLAND_SLOPE, BAY_FLOOR_M))
         elif spot.kind == "point":
             h = _shelf(sd_xy, POINT_SHORE_SLOPE)
+        elif spot.kind == "ridge":
+            h = _shelf(sd_xy, RIDGE_SHORE_SLOPE)
         else:
             h = _shelf(sd_xy)
         if spot.kind == "ridge":
-            # crest along y = 0 running out to sea: shallower than its flanks by up to ~45 %, and
-            # reaching the beach as a shoal, so the nearshore contours bulge seaward at the peak
-            h = h * (1.0 - 0.45 * _gauss(y / 380.0))
+            # the finite ridge offshore (a lens); nearshore contours stay those of the beach and
+            # its salient, so the break's reference points lie on the straight walk seaward
+            h = h * (1.0 - RIDGE_RELIEF * _gauss((x - RIDGE_CENTRE_X_M) / RIDGE_HALF_LENGTH_M) * _gauss(y / RIDGE_HALF_WIDTH_M))
         elif spot.kind == "point":
             # a submerged spur continuing the headland out to sea (points usually have one)
             spur = _smoothstep(-x, 1500.0, 2200.0) * (1.0 - _smoothstep(-x, 3200.0, 4600.0))
