@@ -99,6 +99,7 @@ class DemoSpot:
     # line from start to end first reaches BREAK_DEPTH_M
     break_lines: tuple[tuple[str, tuple[float, float], tuple[float, float]], ...]
     reference_depth_m: float = 10.0
+    noise_seed: int = 0  # offset of this spot's smooth noise from SEED (fixed, so renames keep the seabed)
 
     @property
     def file_name(self) -> str:
@@ -126,6 +127,7 @@ SPOTS: tuple[DemoSpot, ...] = (
             ("inside", (-1100.0, 600.0), (-1100.0, -1500.0)),
             ("deep inside", (-800.0, 800.0), (-800.0, -1500.0)),
         ),
+        noise_seed=1265,
     ),
     DemoSpot(
         id="quenning-ridge",
@@ -144,10 +146,11 @@ SPOTS: tuple[DemoSpot, ...] = (
             ("peak", (-1000.0, 0.0), (1500.0, 0.0)),
             ("north shoulder", (-1000.0, 250.0), (1500.0, 250.0)),
         ),
+        noise_seed=1437,
     ),
     DemoSpot(
-        id="brinlow-bay",
-        name="Brinlow Bay",
+        id="quillance-bay",
+        name="Quillance Bay",
         kind="bay",
         latitude=-41.780,
         longitude=_LON,
@@ -163,10 +166,11 @@ SPOTS: tuple[DemoSpot, ...] = (
             ("bay centre", (500.0, 716.0), (1250.0, -583.0)),
             ("east end", (1200.0, 1120.0), (1950.0, -179.0)),
         ),
+        noise_seed=1126,
     ),
     DemoSpot(
-        id="dunmere-strand",
-        name="Dunmere Strand",
+        id="ostravel-strand",
+        name="Ostravel Strand",
         kind="beach",
         latitude=-41.860,
         longitude=_LON,
@@ -181,6 +185,7 @@ SPOTS: tuple[DemoSpot, ...] = (
             ("centre", (-1000.0, 0.0), (1500.0, 0.0)),
             ("north", (-1000.0, 400.0), (1500.0, 400.0)),
         ),
+        noise_seed=1449,
     ),
 )
 
@@ -323,7 +328,7 @@ def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np
 
         island_at = field(_bay_island(gx, gy))
         sd_at = field(gy <= _bay_coast_y(gx))  # the mainland alone
-    noise = _noise_field(SEED + sum(map(ord, spot.id)))
+    noise = _noise_field(SEED + spot.noise_seed)
 
     def depth(x, y):
         x, y = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(y, dtype=float))

@@ -38,7 +38,7 @@ def demo(tmp_path_factory):
 
     bodies = {}
     with session_scope(ready_database()) as session:
-        for sid in ("vorrel-point", "quenning-ridge", "brinlow-bay", "dunmere-strand"):
+        for sid in ("vorrel-point", "quenning-ridge", "quillance-bay", "ostravel-strand"):
             bodies[sid] = get_outlook(session, sid, hours=OUTLOOK_HOURS, start=NOW, agency_id=AGENCY_ID)
     yield {"first": first.getvalue(), "second": second.getvalue(), "outlooks": bodies}
     mp.undo()
@@ -54,7 +54,7 @@ def test_first_run_builds_ingests_and_prints_cautions(demo):
     out = demo["first"]
     assert "tables    13 built, 0 up to date" in out
     assert "demo-offshore-1: 37 new" in out or "demo-offshore-1:" in out and " new," in out
-    for spot in ("Vorrel Point", "Quenning Ridge", "Brinlow Bay", "Dunmere Strand"):
+    for spot in ("Vorrel Point", "Quenning Ridge", "Quillance Bay", "Ostravel Strand"):
         assert spot in out
     # the cautions the safety rule asks for (guidance only; conditions change; follow lifeguards ...)
     assert "Guidance only" in out and "Conditions change" in out and "Follow lifeguards, official warnings and local rules" in out
@@ -74,7 +74,7 @@ def _train(step, lo, hi):
 
 
 def test_bay_is_small_for_west_swell_and_open_to_north_west(demo):
-    bay, beach = demo["outlooks"]["brinlow-bay"], demo["outlooks"]["dunmere-strand"]
+    bay, beach = demo["outlooks"]["quillance-bay"], demo["outlooks"]["ostravel-strand"]
     by_time = {s.time: s for s in beach.steps}
     west, north_west = [], []
     for s in bay.steps:
@@ -93,14 +93,14 @@ def test_bay_is_small_for_west_swell_and_open_to_north_west(demo):
 
 
 def test_beach_closes_out_at_normal_incidence(demo):
-    beach = demo["outlooks"]["dunmere-strand"]
+    beach = demo["outlooks"]["ostravel-strand"]
     square = _steps_from(beach, 262, 278)  # the beach faces 270°
     assert square
     assert all(s.peel.direction == "closeout" for s in square)
 
 
 def test_ridge_breakers_exceed_the_beach_for_long_period_swell(demo):
-    ridge, beach = demo["outlooks"]["quenning-ridge"], demo["outlooks"]["dunmere-strand"]
+    ridge, beach = demo["outlooks"]["quenning-ridge"], demo["outlooks"]["ostravel-strand"]
     by_time = {s.time: s for s in beach.steps}
     long = [s for s in ridge.steps if s.period_s and s.period_s >= 14 and s.time in by_time and s.breaker_height_m]
     assert long
@@ -114,7 +114,7 @@ def test_ridge_breakers_exceed_the_beach_for_long_period_swell(demo):
                    "shoulder; and the ridge/beach K ratio at 270 deg falls with period (2.5 at 8 s, a caustic; 1.26 at "
                    "20 s) instead of growing (issue 8)", strict=False)
 def test_ridge_focuses_long_period_swell_and_peels_both_ways(demo):
-    ridge, beach = demo["outlooks"]["quenning-ridge"], demo["outlooks"]["dunmere-strand"]
+    ridge, beach = demo["outlooks"]["quenning-ridge"], demo["outlooks"]["ostravel-strand"]
     by_time = {s.time: s for s in beach.steps}
     long = [s for s in ridge.steps if s.period_s and s.period_s >= 14 and s.time in by_time and s.breaker_height_m
             and s.offshore.direction_deg is not None and 255 <= s.offshore.direction_deg <= 285]
