@@ -15,7 +15,7 @@ COMMANDS = (
 )
 
 
-_SERVICES = ("worker", "serve")
+_SERVICES = ("worker", "serve", "demo")
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -2,12 +2,16 @@
 
 from __future__ import annotations
 
+import logging
 from pathlib import Path
 
 from alembic import command
 from alembic.config import Config
 
 MIGRATIONS_DIR = Path(__file__).resolve().parents[2] / "migrations"
+
+# Alembic narrates every migration context at INFO; only its warnings are news to an operator.
+logging.getLogger("alembic").setLevel(logging.WARNING)
 
 
 def alembic_config(url: str) -> Config:
