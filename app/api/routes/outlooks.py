@@ -72,8 +72,11 @@ def _outlook(session: Any, spot_id: str, *, hours: int, start: datetime | None, 
 
 Hours = Annotated[int, Query(ge=1, le=240, description="length of the outlook [h]")]
 UnitsQ = Annotated[Literal["metric", "imperial"], Query(description="metric (m, default) or imperial (ft)")]
-FromQ = Annotated[str | None, Query(alias="from", description="RFC 3339 start time; default the current hour",
-                                    examples=["2026-03-24T10:00:00Z"], max_length=40)]
+# RFC 3339 date-time with an offset, spelled out so the schema says what the parser takes
+FROM_PATTERN = (r"^(19|20)[0-9]{2}-(0[1-9]|1[0-2])-(0[1-9]|[12][0-9]|3[01])T([01][0-9]|2[0-3]):[0-5][0-9]"
+                r"(:[0-5][0-9](\.[0-9]{1,6})?)?(Z|[+-]([01][0-9]|2[0-3]):[0-5][0-9])$")
+FromQ = Annotated[str | None, Query(alias="from", description="RFC 3339 start time with Z or an offset; default the current hour",
+                                    examples=["2026-03-24T10:00:00Z"], max_length=40, pattern=FROM_PATTERN)]
 AgencyQ = Annotated[str | None, Query(description="use this agency's hazard policy", max_length=64,
                                       pattern=r"^[a-z0-9][a-z0-9-]*$")]
 
@@ -92,7 +95,7 @@ def _prepare(session: Any, spot_id: str, agency: str | None, frm: str | None) ->
     "/spots/{spot_id}/outlook",
     summary="The spot's outlook: breaker heights (typical, sets, largest), swell trains, peel and hazard per step",
     response_model=OutlookBody,
-    responses=problems(*READ, 503),
+    responses=problems(*READ, 409, 503),
 )
 def get_outlook(
     spot_id: str, request: Request, session: SessionDep, settings: SettingsDep,
@@ -113,7 +116,7 @@ def get_outlook(
     summary="The outlook as an SVG chart (breaker heights over time with sets and largest, swell trains)",
     response_class=Response,
     responses={200: {"content": {SVG_MEDIA_TYPE: {"schema": {"type": "string"}}}, "description": "SVG image"},
-               **problems(*READ, 503)},
+               **problems(*READ, 409, 503)},
 )
 def get_outlook_svg(
     spot_id: str, request: Request, session: SessionDep, settings: SettingsDep,

@@ -6,6 +6,7 @@ import hashlib
 from typing import Annotated
 
 from fastapi import APIRouter, File, Request, UploadFile
+from pydantic import Field
 from starlette.responses import Response
 
 from app.api.deps import ApiKeyDep, SessionDep, SettingsDep, cache_control, conditional, json_response
@@ -20,6 +21,15 @@ SERIALIZER = "sources-1"
 MAX_FILES = 20
 
 
+class SourceCreate(SourceConfig):
+    """A source as posted to the API: at least one http(s)/file URL to fetch from, no server paths
+    (the schema says what the service accepts, so schema-valid bodies are not refused)."""
+
+    urls: list[Annotated[str, Field(pattern=r"^(https?|file)://")]] = Field(min_length=1, max_length=20)
+    paths: list[str] = Field(default_factory=list, max_length=0,
+                             description="not accepted here: paths are for sources added from a TOML file on the server")
+
+
 @router.get("/sources", summary="Offshore sources with their health (last success, last error, counts)",
             response_model=list[SourcePublic], responses=problems(*READ))
 def list_sources(request: Request, session: SessionDep, settings: SettingsDep) -> Response:
@@ -32,8 +42,11 @@ def list_sources(request: Request, session: SessionDep, settings: SettingsDep) -
 
 
 @router.post("/sources", summary="Add or replace a source (http/https URLs only, unless the server allows local ones)",
-             status_code=201, response_model=SourcePublic, responses=problems(*WRITE))
-def add_source(config: SourceConfig, session: SessionDep, settings: SettingsDep, _key: ApiKeyDep) -> Response:
+             status_code=201, response_model=SourcePublic, responses={201: {"description": "Created or replaced", "links": {
+                 "ListSources": {"operationId": "sources-list_sources",
+                                 "description": "the sources with their health, now including this one"}}},
+                 **problems(*WRITE)})
+def add_source(config: SourceCreate, session: SessionDep, settings: SettingsDep, _key: ApiKeyDep) -> Response:
     if config.paths:
         raise BadInput("`paths` are for sources added from a TOML file on the server; use `urls`", field="paths")
     source = source_service.add_source(session, config, remote_only=not settings.allow_local_sources)
@@ -52,7 +65,8 @@ def add_source(config: SourceConfig, session: SessionDep, settings: SettingsDep,
 )
 async def upload_observations(
     source_id: str, session: SessionDep, settings: SettingsDep, _key: ApiKeyDep,
-    files: Annotated[list[UploadFile], File(description="one or more files in the source's format")],
+    files: Annotated[list[UploadFile], File(description="one or more files in the source's format",
+                                            min_length=1, max_length=MAX_FILES)],
 ) -> Response:
     from app.ingest.store import ingest_files
 

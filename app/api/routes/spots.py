@@ -72,6 +72,24 @@ def spots_version(session: Any, spot_id: str | None = None) -> str:
     return h.hexdigest()
 
 
+# OpenAPI links (3.x "links"): what a client, and schemathesis' stateful run, may call next with the
+# id the response names. The spot links follow a write; the job link follows a rebuild's 202.
+SPOT_LINKS = {
+    "GetSpot": {"operationId": "spots-get_spot", "parameters": {"spot_id": "$response.body#/id"},
+                "description": "the spot just written"},
+    "GetOutlook": {"operationId": "outlooks-get_outlook", "parameters": {"spot_id": "$response.body#/id"},
+                   "description": "its outlook (409 until its tables are built)"},
+    "GetWindow": {"operationId": "windows-get_window", "parameters": {"spot_id": "$response.body#/id"},
+                  "description": "its swell window (404 until its tables are built)"},
+    "RebuildTables": {"operationId": "spots-rebuild_tables", "parameters": {"spot_id": "$response.body#/id"},
+                      "description": "build its transfer tables (202 + a job)"},
+}
+JOB_LINKS = {
+    "GetJob": {"operationId": "jobs-get_job", "parameters": {"job_id": "$response.body#/id"},
+               "description": "poll the rebuild job"},
+}
+
+
 def _wants_geojson(request: Request, format: str | None) -> bool:
     if format is not None:
         return format == "geojson"
@@ -84,7 +102,11 @@ def _wants_geojson(request: Request, format: str | None) -> bool:
     summary="List spots (JSON, or a GeoJSON FeatureCollection with ?format=geojson or Accept: application/geo+json)",
     response_model=list[SpotPublic],
     responses={**problems(*READ), 200: {"content": {geojson.MEDIA_TYPE: {"schema": {
-        "$ref": "#/components/schemas/SpotFeatureCollection"}}}}},
+        "$ref": "#/components/schemas/SpotFeatureCollection"}}}, "links": {
+        "GetFirstSpot": {"operationId": "spots-get_spot", "parameters": {"spot_id": "$response.body#/0/id"},
+                         "description": "the first listed spot (JSON list)"},
+        "ReplaceFirstSpot": {"operationId": "spots-put_spot", "parameters": {"spot_id": "$response.body#/0/id"},
+                             "description": "replace the first listed spot (JSON list)"}}}},
 )
 def list_spots(
     request: Request, session: SessionDep, settings: SettingsDep,
@@ -128,7 +150,8 @@ async def _read_limited(upload: UploadFile, limit: int, name: str) -> bytes:
     summary="Add or replace a spot from a profile TOML and its bathymetry file (multipart)",
     response_model=SpotPublic,
     status_code=200,
-    responses={201: {"description": "Created", "model": SpotPublic}, **problems(*WRITE)},
+    responses={200: {"description": "Replaced", "links": SPOT_LINKS},
+               201: {"description": "Created", "model": SpotPublic, "links": SPOT_LINKS}, **problems(*WRITE)},
 )
 async def put_spot(
     spot_id: str,
@@ -212,7 +235,7 @@ def _run_table_job_safely(*args: Any) -> None:
     summary="Rebuild the spot's transfer tables in the background (202 + a job to poll)",
     status_code=202,
     response_model=JobPublic,
-    responses=problems(*WRITE),
+    responses={202: {"description": "Accepted: the job to poll", "links": JOB_LINKS}, **problems(*WRITE)},
 )
 def rebuild_tables(spot_id: str, request: Request, session: SessionDep, _key: ApiKeyDep) -> Response:
     spot_service.get_spot(session, spot_id)
