@@ -845,7 +845,10 @@ def spot_points(spot: Spot, notes: list[str] | None = None) -> list[PointSetup]:
         depth = float(geo.depth) if math.isfinite(float(geo.depth)) else float(bp.depth_m)
         out.append(PointSetup(bp.name, float(bp.x), float(bp.y), table, depth, slope, normal % 360.0))
     if not out:
-        raise Conflict(f"spot {spot.id!r} has no transfer tables yet: run `shoalcast tables build {spot.id}`")
+        raise Conflict(
+            f"spot {spot.id!r} has no transfer tables yet: build them with `shoalcast tables build {spot.id}` "
+            f"or POST /v1/spots/{spot.id}/tables"
+        )
     return out
 
 
