@@ -85,7 +85,11 @@ def _free_port() -> int:
 
 
 async def _phase(base: str, path: str, seconds: float, *, conditional: bool) -> dict:
+    import logging
+
     import httpx
+
+    logging.getLogger("httpx").setLevel(logging.WARNING)  # the pollers' own requests are not news
 
     latencies: list[float] = []
     errors = 0
