@@ -20,7 +20,6 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
-from datetime import datetime
 from typing import Any, NamedTuple
 
 import numpy as np
@@ -28,6 +27,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from models.constants import RHO_SEAWATER, G
 from models.errors import InvalidInput
+from models.times import to_seconds
 
 __all__ = [
     "CAUTION",
@@ -254,28 +254,6 @@ class HazardSummary(NamedTuple):
     caution: str
 
 
-def _times_seconds(times: Sequence[Any] | ArrayLike, name: str) -> tuple[NDArray[np.float64], list[Any]]:
-    items = list(times) if not isinstance(times, np.ndarray) else list(times.ravel())
-    if not items:
-        raise InvalidInput(f"`{name}` must not be empty")
-    out = np.empty(len(items))
-    for i, v in enumerate(items):
-        if isinstance(v, datetime):
-            if v.tzinfo is None or v.utcoffset() is None:
-                raise InvalidInput(f"`{name}[{i}]` must be timezone-aware (UTC), got naive {v!r}")
-            out[i] = v.timestamp()
-        elif isinstance(v, np.datetime64):
-            out[i] = v.astype("datetime64[ns]").astype(np.int64) / 1e9
-        else:
-            try:
-                out[i] = float(v)
-            except (TypeError, ValueError):
-                raise InvalidInput(f"`{name}[{i}]` must be an aware datetime or seconds, got {v!r}") from None
-        if not math.isfinite(out[i]):
-            raise InvalidInput(f"`{name}[{i}]` must be finite, got {v!r}")
-    return out, items
-
-
 def hazard_summary(
     times: Sequence[Any],
     levels: ArrayLike,
@@ -292,7 +270,7 @@ def hazard_summary(
     onset is the first step in it whose level equals the highest level (if the current level is
     already the highest, the onset is the current step).
     """
-    ts, items = _times_seconds(times, "times")
+    ts, items = to_seconds(times, "times")
     lev = np.asarray(levels)
     if lev.shape != ts.shape:
         raise InvalidInput(f"`levels` must have one entry per time ({ts.size}), got shape {lev.shape}")
@@ -304,7 +282,7 @@ def hazard_summary(
         raise InvalidInput(f"`times` must be strictly ascending; `times[{i}]` is not after `times[{i - 1}]`")
     if not (math.isfinite(horizon_hours) and horizon_hours >= 0):
         raise InvalidInput(f"`horizon_hours` must be finite and >= 0, got {horizon_hours!r}")
-    t_now = ts[0] if now is None else _times_seconds([now], "now")[0][0]
+    t_now = ts[0] if now is None else to_seconds([now], "now")[0][0]
     lev = lev.astype(int)
     i_cur = max(int(np.searchsorted(ts, t_now, side="right")) - 1, 0)
     in_h = (ts >= t_now) & (ts <= t_now + horizon_hours * 3600.0)

@@ -19,7 +19,6 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from datetime import UTC, datetime
 from typing import Any, NamedTuple
 
 import numpy as np
@@ -27,6 +26,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from models.constants import DEG, G
 from models.errors import InvalidInput
+from models.times import to_seconds
 
 __all__ = [
     "EARTH_MEAN_RADIUS_M",
@@ -138,26 +138,6 @@ class SpotArrival(NamedTuple):
     energy_coverage: NDArray[np.float64]
 
 
-def _to_seconds(times: Sequence[Any] | ArrayLike, name: str) -> tuple[NDArray[np.float64], list[Any]]:
-    items = list(np.ravel(times)) if isinstance(times, np.ndarray) else list(times)
-    out = np.empty(len(items))
-    for i, v in enumerate(items):
-        if isinstance(v, datetime):
-            if v.tzinfo is None or v.utcoffset() is None:
-                raise InvalidInput(f"`{name}[{i}]` must be timezone-aware (UTC), got naive {v!r}")
-            out[i] = (v - datetime(1970, 1, 1, tzinfo=UTC)).total_seconds()
-        elif isinstance(v, np.datetime64):
-            out[i] = v.astype("datetime64[ns]").astype(np.int64) / 1e9
-        else:
-            try:
-                out[i] = float(v)
-            except (TypeError, ValueError):
-                raise InvalidInput(f"`{name}[{i}]` must be an aware datetime or seconds, got {v!r}") from None
-            if not math.isfinite(out[i]):
-                raise InvalidInput(f"`{name}[{i}]` must be finite, got {v!r}")
-    return out, items
-
-
 def shift_to_spot(
     times: Sequence[Any],
     frequency_hz: ArrayLike,
@@ -176,8 +156,8 @@ def shift_to_spot(
     observed span, or for components that never arrive, the component is unavailable (zero energy,
     ``available`` False) — it is not extrapolated.
     """
-    ts, _ = _to_seconds(times, "times")
-    tt, t_items = _to_seconds(target_times, "target_times")
+    ts, _ = to_seconds(times, "times", allow_empty=True)
+    tt, t_items = to_seconds(target_times, "target_times", allow_empty=True)
     if ts.size == 0:
         raise InvalidInput("`times` must not be empty")
     if np.any(np.diff(ts) <= 0):
