@@ -19,6 +19,7 @@ from starlette.responses import Response
 
 from app.api.http import if_none_match_matches, not_modified
 from app.config import Settings
+from app.db.session import scoped
 from app.services.keys import ApiKeyPublic, verify_key
 
 __all__ = [
@@ -41,15 +42,8 @@ SettingsDep = Annotated[Settings, Depends(get_app_settings)]
 
 
 def get_session(request: Request) -> Iterator[Session]:
-    session: Session = request.app.state.session_factory()
-    try:
+    with scoped(request.app.state.session_factory) as session:
         yield session
-        session.commit()
-    except BaseException:
-        session.rollback()
-        raise
-    finally:
-        session.close()
 
 
 SessionDep = Annotated[Session, Depends(get_session)]

@@ -54,9 +54,9 @@ def session_factory(url: str | None = None) -> sessionmaker[Session]:
 
 
 @contextmanager
-def session_scope(url: str | None = None) -> Iterator[Session]:
-    """A session that commits on success and rolls back on any error."""
-    session = session_factory(url)()
+def scoped(factory: sessionmaker[Session]) -> Iterator[Session]:
+    """A session from `factory` that commits on success and rolls back on any error."""
+    session = factory()
     try:
         yield session
         session.commit()
@@ -67,4 +67,9 @@ def session_scope(url: str | None = None) -> Iterator[Session]:
         session.close()
 
 
-__all__ = ["dispose_engines", "get_engine", "make_engine", "session_factory", "session_scope"]
+def session_scope(url: str | None = None):  # type: ignore[no-untyped-def]
+    """A session on `url` (default: the settings' database) that commits on success, else rolls back."""
+    return scoped(session_factory(url))
+
+
+__all__ = ["dispose_engines", "get_engine", "make_engine", "scoped", "session_factory", "session_scope"]

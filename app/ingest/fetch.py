@@ -27,8 +27,7 @@ import os
 import random
 import threading
 import time
-from collections.abc import Callable, Iterator, Mapping
-from contextlib import contextmanager
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
@@ -41,7 +40,7 @@ import sqlalchemy as sa
 from sqlalchemy.orm import Session, sessionmaker
 
 from app.config import get_settings
-from app.db.session import get_engine
+from app.db.session import get_engine, scoped
 from app.db.tables import Source, SourceHealth, utcnow
 from app.errors import FetchError
 from app.ingest.store import parse_payload, record_failure, store_result
@@ -341,22 +340,9 @@ def _sessionmaker(target: Target) -> sessionmaker[Session]:
     return sessionmaker(bind=engine, expire_on_commit=False)
 
 
-@contextmanager
-def _scope(factory: sessionmaker[Session]) -> Iterator[Session]:
-    session = factory()
-    try:
-        yield session
-        session.commit()
-    except BaseException:
-        session.rollback()
-        raise
-    finally:
-        session.close()
-
-
 def _note_failure(factory: sessionmaker[Session], source_id: str, message: str) -> None:
     try:
-        with _scope(factory) as session:
+        with scoped(factory) as session:
             record_failure(session, source_id, message)
     except Exception:  # noqa: BLE001 - the database itself may be down; the log still has it
         log.exception("cannot record the failure of source %s", source_id)
@@ -378,7 +364,7 @@ def fetch_source(
     factory = _sessionmaker(session_or_url)
     fetcher = fetcher or get_fetcher()
     cache_dir = cache_dir or (get_settings().data_dir / "cache")
-    with _scope(factory) as session:
+    with scoped(factory) as session:
         source = session.get(Source, source_id)
         if source is None:
             return FetchOutcome(source_id, "error", error=f"no source with id {source_id!r}")
@@ -395,7 +381,7 @@ def fetch_source(
         outcome.attempts = {f.url: f.attempts for f in fetched}
         outcome.changed = [f.name for f in fetched if not f.not_modified]
         if not outcome.changed:
-            with _scope(factory) as session:
+            with scoped(factory) as session:
                 _note_success_without_change(session, source_id)
             outcome.status = "not_modified"
             return outcome
@@ -414,7 +400,7 @@ def fetch_source(
         return outcome
     files = _named(batch)
     try:
-        with _scope(factory) as session:
+        with scoped(factory) as session:
             source = session.get(Source, source_id)
             if source is None:  # removed while we fetched
                 outcome.error = f"source {source_id!r} was removed during the fetch"
