@@ -142,9 +142,9 @@ SPOTS: tuple[DemoSpot, ...] = (
         y_range=(-3000.0, 3000.0),
         spacing_m=40.0,
         break_lines=(
-            ("south shoulder", (-1000.0, -250.0), (1500.0, -250.0)),
+            ("south shoulder", (-1000.0, -400.0), (1500.0, -400.0)),
             ("peak", (-1000.0, 0.0), (1500.0, 0.0)),
-            ("north shoulder", (-1000.0, 250.0), (1500.0, 250.0)),
+            ("north shoulder", (-1000.0, 400.0), (1500.0, 400.0)),
         ),
         noise_seed=1437,
     ),
@@ -206,14 +206,20 @@ def _land_point(x, y):
 # aligned with the west swell, that tapers out well before the 10 m contour. Swell slows over it
 # and its crest bends round it like light through a lens, converging behind it toward the beach:
 # long periods feel the shoal more (they are "shallower" waves in 30-60 m), so the focusing grows
-# with period. The shoreline bulges slightly seaward in its lee (a salient, as behind real
-# offshore shoals), so the focused peak breaks first and peels both ways.
+# with period. The shoreline bulges seaward in its lee (a salient, as behind real offshore
+# shoals) on a gentle inshore slope, so the focused peak breaks first, well seaward of its
+# shoulders, and peels both ways.
 RIDGE_CENTRE_X_M = -2000.0  # the shoal's centre on y = 0, in about 30 m of shelf [m]
 RIDGE_HALF_LENGTH_M = 900.0  # e-folding half-length along the axis (east-west) [m]
 RIDGE_HALF_WIDTH_M = 250.0  # e-folding half-width across it [m]
-RIDGE_RELIEF = 0.6  # the crest rises to 40 % of the surrounding depth
-RIDGE_SALIENT_M, RIDGE_SALIENT_HALF_WIDTH_M = 300.0, 400.0  # the shoreline's seaward bulge behind it [m]
-RIDGE_SHORE_SLOPE = 1.0 / 90.0  # gentle, so a larger (focused) breaker breaks well seaward of a smaller one
+RIDGE_RELIEF = 0.2  # the crest rises to 80 % of the surrounding depth (a low shoal: a stronger one focuses
+# the long periods inshore of the break, and the crest then arrives nearly flat along it)
+RIDGE_SALIENT_M, RIDGE_SALIENT_HALF_WIDTH_M = 500.0, 200.0  # the shoreline's seaward bulge behind it [m]
+# gentle inshore, so a larger (focused) breaker breaks well seaward of a smaller one and the peak
+# breaks first; deepening by RIDGE_OUTER_DROP_M across RIDGE_OUTER_DROP_RANGE_M (distance from the
+# shore) to about 30 m where the ridge sits
+RIDGE_SHORE_SLOPE = 1.0 / 150.0
+RIDGE_OUTER_DROP_M, RIDGE_OUTER_DROP_RANGE_M = 12.0, (1000.0, 2500.0)
 
 
 def _land_ridge(x, y):
@@ -344,7 +350,7 @@ def spot_depth_function(spot: DemoSpot) -> Callable[[np.ndarray, np.ndarray], np
         elif spot.kind == "point":
             h = _shelf(sd_xy, POINT_SHORE_SLOPE)
         elif spot.kind == "ridge":
-            h = _shelf(sd_xy, RIDGE_SHORE_SLOPE)
+            h = _shelf(sd_xy, RIDGE_SHORE_SLOPE) + RIDGE_OUTER_DROP_M * _smoothstep(sd_xy, *RIDGE_OUTER_DROP_RANGE_M)
         else:
             h = _shelf(sd_xy)
         if spot.kind == "ridge":

@@ -72,9 +72,9 @@ def test_open_ocean_edges_are_deep(grids):
             assert water.size > 100 and np.mean(water > 20.0) > 0.95 and water.max() < 30.0  # but where the coast meets the edge
             continue
         west = g.depth[:, 0]
-        # the point's and the ridge's shelves shoal gently (1:100 and 1:90 at the shore), so their
+        # the point's and the ridge's shelves shoal gently (1:100 and 1:150 at the shore), so their
         # west edges are shallower but still well above the 20 m an open edge needs
-        floor = {"point": 25.0, "ridge": 45.0}.get(kind, 60.0)
+        floor = {"point": 25.0, "ridge": 40.0}.get(kind, 60.0)
         assert west.min() > floor and west.max() <= coast.SHELF_DEPTH_M, kind
 
 
@@ -136,11 +136,12 @@ def test_headland_protrudes_and_point_breaks_along_its_flank(grids):
 def test_ridge_crest_is_shallower_than_its_flanks(grids):
     g = grids["ridge"]
     at = _sampler(g)
-    # a finite ridge offshore: well above its flanks over its middle, gone before the 10 m contour
+    # a finite, low ridge offshore (its crest at 80 % of the depth round it, the salient's bulging
+    # contours adding to that nearer shore): above its flanks over its middle, gone before the 10 m contour
     for x in (-2600.0, -2000.0, -1400.0):
         crest = at([0.0, x])[0]
         flanks = 0.5 * (at([-1200.0, x])[0] + at([1200.0, x])[0])
-        assert crest < 0.75 * flanks, x
+        assert crest < 0.87 * flanks, x
     for x in (-4300.0,):  # (nearer shore the contours bulge seaward round the salient behind it)
         crest = at([0.0, x])[0]
         flanks = 0.5 * (at([-1200.0, x])[0] + at([1200.0, x])[0])

@@ -108,11 +108,6 @@ def test_ridge_breakers_exceed_the_beach_for_long_period_swell(demo):
     assert all(s.breaker_height_m.sets > by_time[s.time].breaker_height_m.sets for s in long)
 
 
-@pytest.mark.xfail(reason="the offshore ridge (lens) and its salient make the peak the largest point (sets 5.9 m vs "
-                   "5.3/4.8 m at the shoulders, 4.7 m on the beach) but the crest wraps round the salient: break-time "
-                   "peel at +-250 m is 8-12 deg (a closeout) for the main 260-265 deg swell, first break at the south "
-                   "shoulder; and the ridge/beach K ratio at 270 deg falls with period (2.5 at 8 s, a caustic; 1.26 at "
-                   "20 s) instead of growing (issue 8)", strict=False)
 def test_ridge_focuses_long_period_swell_and_peels_both_ways(demo):
     ridge, beach = demo["outlooks"]["quenning-ridge"], demo["outlooks"]["ostravel-strand"]
     by_time = {s.time: s for s in beach.steps}
