@@ -40,6 +40,8 @@ def main(argv: list[str] | None = None) -> int:
         from app.observability import configure_logging
 
         configure_logging(get_settings())
+        if args.command == "demo":  # the demo prints its own account of each poll
+            logging.getLogger("httpx").setLevel(logging.WARNING)
     else:
         logging.basicConfig(level=logging.INFO if args.verbose else logging.WARNING, format="%(levelname)s %(name)s: %(message)s")
     try:
