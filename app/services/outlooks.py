@@ -36,7 +36,6 @@ from __future__ import annotations
 
 import gc
 import hashlib
-import io
 import json
 import logging
 import math
@@ -54,7 +53,7 @@ from pydantic import TypeAdapter
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
-from app.db.tables import Observation, OutlookCache, Source, Spot, TransferTableRow, utcnow
+from app.db.tables import Observation, OutlookCache, Source, Spot, utcnow
 from app.errors import BadInput, Conflict, NotFound
 from app.schemas.outlooks import (
     HeightClasses,
@@ -63,6 +62,7 @@ from app.schemas.outlooks import (
     Peel,
     Step,
 )
+from app.services.tables import load_table
 from models.breaking import shoal_to_breaking
 from models.constants import FOOT
 from models.directions import wrap_180
@@ -798,15 +798,6 @@ def cautions_for(policy: HazardPolicy) -> list[str]:
 WaterLevel = float | Sequence[tuple[datetime, float]]
 
 
-def load_table(row: TransferTableRow) -> TransferTable:
-    """The stored table of a TransferTableRow (.npz of `TransferTable.to_arrays()`)."""
-    with np.load(io.BytesIO(row.arrays), allow_pickle=False) as z:
-        data = {k: (z[k].item() if z[k].ndim == 0 and z[k].dtype.kind in "fiU" else z[k]) for k in z.files}
-    if "meta_json" in data:
-        data["meta_json"] = str(data["meta_json"])
-    return TransferTable.from_arrays(data)
-
-
 def _floor_hour(t: datetime) -> datetime:
     return t.astimezone(UTC).replace(minute=0, second=0, microsecond=0)
 
@@ -1250,7 +1241,6 @@ __all__ = [
     "compute_outlook",
     "compute_spots",
     "get_outlook",
-    "load_table",
     "outlook_key",
     "prepare_offshore",
     "refresh_stale",
