@@ -8,20 +8,19 @@ from __future__ import annotations
 
 import hashlib
 import json
-import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 import numpy as np
-from pydantic import ValidationError
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
 from app.db.tables import Bathymetry, BreakPoint, Spot, TransferTableRow
 from app.errors import NotFound, ProfileError
-from app.schemas.profile import SpotProfile, describe_validation_error
+from app.schemas.profile import SpotProfile
 from app.schemas.spots import BreakPointPublic, GridSummary, SpotPublic
+from app.schemas.toml import parse_toml_model
 from models.bathymetry import DepthGrid
 from models.geodesy import to_local, to_lonlat
 
@@ -60,17 +59,7 @@ class LoadedSpot:
 
 
 def parse_profile_text(text: str, *, where: str) -> SpotProfile:
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise ProfileError(f"{where}: not valid TOML: {exc}") from exc
-    try:
-        return SpotProfile.model_validate(raw)
-    except ValidationError as exc:
-        first = exc.errors()[0]
-        raise ProfileError(
-            describe_validation_error(exc, where=where), field=".".join(str(p) for p in first["loc"])
-        ) from exc
+    return parse_toml_model(text, SpotProfile, where=where, error=ProfileError)
 
 
 def _inside(base: Path, relative: str, *, where: str) -> Path:
