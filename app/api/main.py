@@ -133,8 +133,12 @@ def _allowed_methods(request: Request) -> list[str]:
 
 
 def _install_handlers(app: FastAPI) -> None:
+    from app.web.errors import html_error, wants_html  # the pages answer errors with HTML pages
+
     @app.exception_handler(ShoalcastError)
     async def _shoalcast(request: Request, exc: ShoalcastError):  # type: ignore[no-untyped-def]
+        if wants_html(request):
+            return html_error(exc.status, exc.title, exc.detail)
         extra = {"field": exc.field} if exc.field else {}
         headers = {"WWW-Authenticate": 'APIKey header="X-API-Key"'} if exc.status == 401 else None
         return problem(exc.status, exc.title, exc.detail, instance=request.url.path, headers=headers, **extra)
@@ -146,6 +150,8 @@ def _install_handlers(app: FastAPI) -> None:
             for e in exc.errors()
         ]
         detail = "; ".join(f"{e['field']}: {e['message']}" for e in errors[:5]) or "invalid request"
+        if wants_html(request):
+            return html_error(400, "Bad request", detail)
         return problem(422, "Invalid request", detail, instance=request.url.path, errors=errors)
 
     @app.exception_handler(StarletteHTTPException)
@@ -164,12 +170,16 @@ def _install_handlers(app: FastAPI) -> None:
         headers = dict(exc.headers or {})
         if exc.status_code == 405:  # Starlette lists only the first matching route's methods
             headers["Allow"] = ", ".join(_allowed_methods(request))
+        if wants_html(request):
+            return html_error(exc.status_code, title, detail, headers=headers)
         return problem(exc.status_code, title, detail, instance=request.url.path, headers=headers)
 
     @app.exception_handler(Exception)
     async def _unexpected(request: Request, exc: Exception):  # type: ignore[no-untyped-def]
         request_id = uuid.uuid4().hex[:16]
         log.error("unhandled error on %s %s (request %s)", request.method, request.url.path, request_id, exc_info=exc)
+        if wants_html(request):
+            return html_error(500, "Internal error", f"an unexpected error occurred (request id {request_id})")
         return problem(500, "Internal error", f"an unexpected error occurred (request id {request_id}); it has been logged",
                        instance=request.url.path, request_id=request_id)
 
@@ -253,6 +263,10 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     for module in (spots, outlooks, windows, sources, agencies, alerts):
         app.include_router(module.router, prefix="/v1")
     app.include_router(spots.jobs_router, prefix="/v1")
+
+    from app.web import install as install_pages
+
+    install_pages(app)  # HTML pages at /, /spots/{id}, /agencies/{id}, /sources; assets under /static
 
     @app.get("/metrics", include_in_schema=False)
     def metrics() -> Response:
