@@ -13,6 +13,7 @@ import io
 import socket
 import threading
 import time
+import uuid
 from collections.abc import Iterator
 from dataclasses import dataclass
 from datetime import UTC, datetime
@@ -98,10 +99,40 @@ def build_site(client: TestClient, url: str, key: str, *, scenario=None) -> None
     assert r.status_code == 201, r.text
 
 
-@pytest.fixture
-def site(api: Api) -> Api:  # noqa: F811 - the shared fixture is a parameter here
-    build_site(api.client, api.url, api.key)
-    return api
+@pytest.fixture(scope="module", params=["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)])
+def site(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory) -> Iterator[Api]:
+    """One site per test module and database (building it is most of the cost; tests only read,
+    or add what no other test looks at)."""
+    import sqlalchemy as sa
+    from sqlalchemy.engine import make_url
+
+    from app.api.main import create_app
+    from app.db import migrate
+
+    admin = None
+    if request.param == "sqlite":
+        url = f"sqlite:///{tmp_path_factory.mktemp('site') / 'site.sqlite3'}"
+    else:
+        server = request.getfixturevalue("postgres_server")
+        name = f"shoalcast_w_{uuid.uuid4().hex[:12]}"
+        admin = sa.create_engine(server, isolation_level="AUTOCOMMIT")
+        with admin.connect() as conn:
+            conn.execute(sa.text(f'CREATE DATABASE "{name}"'))
+        url = make_url(server).set(database=name).render_as_string(hide_password=False)
+    try:
+        migrate.upgrade(url)
+        with TestClient(create_app(make_settings(url))) as client:
+            key = new_key(url)
+            build_site(client, url, key)
+            yield Api(client, url, key)
+    finally:
+        if admin is not None:
+            from app.db.session import dispose_engines
+
+            dispose_engines()
+            with admin.connect() as conn:
+                conn.execute(sa.text(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)'))
+            admin.dispose()
 
 
 def _free_port() -> int:

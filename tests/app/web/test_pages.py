@@ -1,0 +1,129 @@
+"""The pages through HTTP (TestClient, SQLite and PostgreSQL): each renders with the cautions, the
+hourly table has one row per outlook step with the JSON outlook's numbers, ETag/304 (RFC 9110
+§13.1.2) on pages and the board fragment, HTML 404 and 400 pages, never a 500."""
+
+from __future__ import annotations
+
+import re
+
+import pytest
+
+from tests.app.web.conftest import AGENCY_ID, SPOT_ID, ZONE, Api, grid_text, profile_text
+
+PAGES = ["/", f"/spots/{SPOT_ID}", f"/agencies/{AGENCY_ID}", "/sources"]
+
+
+def html(r, status: int = 200) -> str:  # type: ignore[no-untyped-def]
+    assert r.status_code == status, r.text[:2000]
+    assert r.headers["content-type"].startswith("text/html")
+    return r.text
+
+
+@pytest.mark.parametrize("path", PAGES)
+def test_page_renders_with_cautions_before_the_data(site: Api, path: str) -> None:
+    text = html(site.client.get(path))
+    assert text.startswith("<!doctype html>") and '<html lang="en">' in text
+    assert "Follow lifeguards, official warnings and local rules." in text
+    assert text.index('class="cautions"') < text.index("<table")  # under the heading, above any number
+    assert re.search(r"<th scope=\"col\"", text) and "<caption" in text
+
+
+def test_spot_page_has_one_row_per_step_with_the_json_numbers(site: Api) -> None:
+    c = site.client
+    outlook = c.get(f"/v1/spots/{SPOT_ID}/outlook", params={"hours": 24}).json()
+    text = html(c.get(f"/spots/{SPOT_ID}", params={"hours": 24}))
+    rows = re.findall(r'<tr(?: class="current")? data-time="([^"]+)">', text)
+    assert len(rows) == len(outlook["steps"]) > 0
+    assert [s["time"][:16] + "Z" for s in outlook["steps"]] == rows
+    first = outlook["steps"][0]["breaker_height_m"]
+    cells = re.search(r'data-time="[^"]+">(.*?)</tr>', text, re.S).group(1)
+    nums = re.findall(r'<td class="num">([^<]+)</td>', cells)
+    assert nums[:3] == [f"{first['typical']:.1f}", f"{first['sets']:.1f}", f"{first['largest']:.1f}"]
+    assert f"Time ({ZONE} (UTC-03:00))" in text and ">UTC</th>" in text  # spot time and UTC side by side
+    assert 'scope="colgroup" colspan="3">Breaker height (m)' in text
+    assert "Tide (" not in text and ">Wind</th>" not in text  # this outlook has neither: no columns
+    assert f'/v1/spots/{SPOT_ID}/outlook.svg?hours=24&amp;units=metric' in text and 'alt="Chart of the breaker' in text
+    assert f"/v1/spots/{SPOT_ID}/window.svg?point=peak" in text
+    assert "Swell trains" in text and "Train 1" in text
+
+
+def test_spot_page_in_feet_and_utc_first(site: Api) -> None:
+    c = site.client
+    outlook = c.get(f"/v1/spots/{SPOT_ID}/outlook", params={"hours": 6, "units": "imperial"}).json()
+    text = html(c.get(f"/spots/{SPOT_ID}", params={"hours": 6, "units": "imperial", "tz": "utc"}))
+    assert "Breaker height (ft)" in text and "Time (UTC)" in text
+    typical = outlook["steps"][0]["breaker_height_ft"]["typical"]
+    assert f'<td class="num">{typical:.1f}</td>' in text
+
+
+def test_pages_answer_304_while_nothing_changed(site: Api) -> None:
+    c = site.client
+    for path in (f"/spots/{SPOT_ID}?hours=6", f"/agencies/{AGENCY_ID}/board", f"/agencies/{AGENCY_ID}", "/sources"):
+        r = c.get(path)
+        etag = r.headers["etag"]
+        again = c.get(path, headers={"If-None-Match": etag})
+        assert again.status_code == 304 and again.content == b"" and again.headers["etag"] == etag, path
+    assert c.get(f"/agencies/{AGENCY_ID}/board").headers["cache-control"] == "no-cache"  # pollers revalidate
+
+
+def test_board_fragment_is_the_table_alone(site: Api) -> None:
+    text = html(site.client.get(f"/agencies/{AGENCY_ID}/board"))
+    assert text.lstrip().startswith("<table") and "data-version=" in text and f'href="/spots/{SPOT_ID}"' in text
+    page = html(site.client.get(f"/agencies/{AGENCY_ID}"))
+    assert 'data-src="/agencies/harbour-guard/board"' in page and "/static/board.js" in page
+
+
+@pytest.mark.parametrize("path", ["/spots/nowhere", "/agencies/nobody", "/agencies/nobody/board",
+                                  "/static/nothing.css", "/spots/nowhere/more"])
+def test_unknown_ids_give_an_html_404(site: Api, path: str) -> None:
+    text = html(site.client.get(path), 404)
+    assert "<h1>404" in text and "Follow lifeguards" in text and 'href="/"' in text
+
+
+def test_unknown_paths_html_for_browsers_problem_json_for_the_api(site: Api) -> None:
+    c = site.client
+    assert "<h1>404" in html(c.get("/no/such/page", headers={"Accept": "text/html,*/*"}), 404)
+    r = c.get("/v1/spots/nowhere", headers={"Accept": "text/html"})
+    assert r.status_code == 404 and r.headers["content-type"].startswith("application/problem+json")
+
+
+@pytest.mark.parametrize("path, field", [
+    (f"/spots/{SPOT_ID}?units=furlongs", "units"), (f"/spots/{SPOT_ID}?hours=abc", "hours"),
+    (f"/spots/{SPOT_ID}?hours=9999", "hours"), (f"/spots/{SPOT_ID}?tz=mars", "tz"), ("/?units=", "units"),
+    (f"/agencies/{AGENCY_ID}?refresh=0", "refresh"), (f"/agencies/{AGENCY_ID}?refresh=soon", "refresh"),
+])
+def test_bad_query_values_give_an_html_400_naming_the_parameter(site: Api, path: str, field: str) -> None:
+    text = html(site.client.get(path), 400)
+    assert "<h1>400" in text and f"<code>{field}</code>" in text or f"`{field}`" in text
+
+
+def test_spot_without_tables_explains_instead_of_failing(site: Api) -> None:
+    c = site.client
+    profile = profile_text("bare-spot").replace('name = "Test Slope"', 'name = "Bare <b>Spot</b>"')
+    r = c.put("/v1/spots/bare-spot", headers=site.auth, files={
+        "profile": ("p.toml", profile.encode(), "application/toml"), "bathymetry": ("g.asc", grid_text().encode(), "text/plain")})
+    assert r.status_code == 201, r.text
+    text = html(c.get("/spots/bare-spot"))
+    assert "No outlook yet" in text and "Swell window" not in text
+    assert "Bare &lt;b&gt;Spot&lt;/b&gt;" in text and "<b>Spot</b>" not in text  # names are escaped
+    index = html(c.get("/"))
+    assert "Bare &lt;b&gt;Spot&lt;/b&gt;" in index and index.count('<th scope="row">') == 2
+
+
+def test_profile_time_zone_is_validated(site: Api) -> None:
+    # zoneinfo knows the IANA names; anything else is refused naming the field
+    profile = profile_text("zoned").replace('sources = ["buoy-t"]', 'timezone = "Mars/Olympus"')
+    r = site.client.put("/v1/spots/zoned", headers=site.auth, files={
+        "profile": ("p.toml", profile.encode(), "application/toml"), "bathymetry": ("g.asc", grid_text().encode(), "text/plain")})
+    assert r.status_code == 422 and "timezone" in r.text
+
+
+def test_assets_are_served_by_shoalcast(site: Api) -> None:
+    c = site.client
+    page = html(c.get(f"/spots/{SPOT_ID}"))
+    assets = re.findall(r'(?:href|src)="(/static/[^"?]+)', page)
+    assert {"/static/site.css", "/static/print.css", "/static/palette.css", "/static/icon.svg"} <= set(assets)
+    for a in assets:
+        assert c.get(a).status_code == 200, a
+    assert not re.search(r'(?:href|src)="(?:https?:)?//', page)  # nothing from elsewhere
+    assert "@media" not in c.get("/static/print.css").text.split("\n", 1)[0] and 'media="print"' in page
