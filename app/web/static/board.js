@@ -25,7 +25,7 @@
       .then(function (r) {
         if (r.status === 304) {
           say("Checked " + clock() + ": no new data. Next check in " + every / 1000 + " s.");
-          return null;
+          return r.text().then(function () { return null; });  // read the empty body: the exchange ends cleanly
         }
         if (!r.ok) {
           say("Checked " + clock() + ": the server answered " + r.status + "; showing the last board received.");

@@ -147,18 +147,16 @@ class Live:
     url: str  # database
 
 
-@pytest.fixture
-def live(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Iterator[Live]:
-    """A calm site served by uvicorn on 127.0.0.1:<free port> (in a thread of this process)."""
+@pytest.fixture(scope="module")
+def live(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Live]:
+    """A calm site served by uvicorn on 127.0.0.1:<free port> (in a thread of this process), one per
+    test module; the board test's ingest is the one write, and it runs last."""
     import uvicorn
 
     from app.api.main import create_app
-    from app.config import get_settings
     from app.db import migrate
 
-    url = f"sqlite:///{tmp_path / 'live.sqlite3'}"
-    monkeypatch.setenv("SHOALCAST_DATABASE_URL", url)
-    get_settings.cache_clear()
+    url = f"sqlite:///{tmp_path_factory.mktemp('live') / 'live.sqlite3'}"
     migrate.upgrade(url)
     settings = make_settings(url)
     with TestClient(create_app(settings)) as client:
@@ -178,3 +176,34 @@ def live(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Iterator[Live]:
     finally:
         server.should_exit = True
         thread.join(timeout=20)
+
+
+CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
+                 "--disable-component-update", "--disable-sync", "--no-first-run"]
+
+
+def _chromium() -> str:
+    """Debian's chromium (.ci/run installs it); Playwright's own browser download is not used."""
+    import os
+    import shutil
+
+    exe = next((p for p in ("/usr/bin/chromium", shutil.which("chromium"), shutil.which("chromium-browser"))
+                if p and Path(p).exists()), None)
+    if exe is None:
+        if os.environ.get("CI", "").lower() in {"1", "true", "yes"}:
+            pytest.fail("chromium is required under CI=true (apt-get install -y chromium)")
+        pytest.skip("chromium not installed")
+    return exe
+
+
+@pytest.fixture(scope="session")
+def browser_type_launch_args(browser_type_launch_args: dict) -> dict:
+    """pytest-playwright's launch options, pointed at the system Chromium."""
+    return {**browser_type_launch_args, "executable_path": _chromium(), "headless": True, "args": CHROMIUM_ARGS}
+
+
+@pytest.fixture(scope="session")
+def base_url() -> None:
+    """Tests pass full URLs (the live server's port is only known per test). Defined here so the
+    pytest-base-url plugin's own fixture, which pytest 9 warns about, is not used."""
+    return None
