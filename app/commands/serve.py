@@ -1,4 +1,4 @@
-"""`shoalcast serve`: the REST API under uvicorn (app factory), optionally with the in-process scheduler."""
+"""`shoalcast serve`: the REST API and the web pages under uvicorn (app factory), optionally with the in-process scheduler."""
 
 from __future__ import annotations
 
@@ -7,7 +7,7 @@ import os
 
 
 def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
-    p = sub.add_parser("serve", help="serve the REST API (uvicorn)")
+    p = sub.add_parser("serve", help="serve the REST API and the web pages (uvicorn)")
     p.add_argument("--host", default="127.0.0.1")
     p.add_argument("--port", type=int, default=8000)
     p.add_argument("--workers", type=int, default=1, help="uvicorn worker processes (stateless; one scheduler at most)")

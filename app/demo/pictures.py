@@ -18,11 +18,16 @@ from app.db.session import session_scope
 from app.formats import svg_outlook, svg_window
 from app.services import outlooks, spots, tables
 
-__all__ = ["render_png", "write_pictures"]
+__all__ = ["render_png", "render_url_png", "write_pictures"]
 
 
 def render_png(svg_path: Path, png_path: Path, width: int, height: int) -> bool:
     """Render an SVG with headless Chromium; False when no browser is installed."""
+    return render_url_png(svg_path.resolve().as_uri(), png_path, width, height)
+
+
+def render_url_png(url: str, png_path: Path, width: int, height: int) -> bool:
+    """Screenshot `url` (a file or a page) at width x height with headless Chromium; False without one."""
     exe = shutil.which("chromium") or shutil.which("chromium-browser")
     if exe is None:
         return False
@@ -31,7 +36,7 @@ def render_png(svg_path: Path, png_path: Path, width: int, height: int) -> bool:
             [exe, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
              "--disable-background-networking", "--disable-component-update", "--disable-sync",
              "--hide-scrollbars", f"--user-data-dir={profile}", f"--screenshot={png_path}",
-             f"--window-size={width},{height}", svg_path.resolve().as_uri()],
+             f"--window-size={width},{height}", url],
             capture_output=True, timeout=120, check=False,
         )  # fmt: skip
     return png_path.exists()

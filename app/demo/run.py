@@ -242,6 +242,8 @@ def _serve(port: int, spot_ids: list[str], out: TextIO, on_serving: Callable[[],
         _say(out, f"  curl -s '{api}{path}'")
     for path in (f"/v1/spots/{spot_ids[2] if len(spot_ids) > 2 else spot}/window.svg", f"/v1/spots/{spot}/outlook.svg"):
         _say(out, f"  curl -s -o {path.rsplit('/', 1)[-1]} '{api}{path}'")
+    _say(out, f"Pages in a browser: {api}/ (spots)   {api}/agencies/{AGENCY_ID} (lifeguard board)   "
+              f"{api}/spots/{spot} (outlook)   {api}/sources (feed health)")
     _say(out, "Plots in a browser:")
     for sid in spot_ids:
         _say(out, f"  {api}/v1/spots/{sid}/window.svg   {api}/v1/spots/{sid}/outlook.svg")
