@@ -38,10 +38,28 @@ def _nice_km(span_km: float) -> float:
     return next(m * mag for m in (1, 2, 5, 10) if m * mag >= raw)
 
 
+def _merge_colocated(places: Sequence[Place]) -> list[Place]:
+    """Sources at (almost) the same position share one square and one label (`2 sources: a, b`)."""
+    out: list[Place] = []
+    groups: dict[tuple[float, float], list[Place]] = {}
+    for p in places:
+        if p.kind != "source":
+            out.append(p)
+            continue
+        groups.setdefault((round(p.latitude, 3), round(p.longitude, 3)), []).append(p)
+    for group in groups.values():
+        first = group[0]
+        label = first.label if len(group) == 1 else f"{len(group)} sources"
+        out.append(Place(label, first.latitude, first.longitude, kind="source"))
+    return out
+
+
 def locator_svg(places: Sequence[Place], *, title: str = "Where the spots are") -> str:
     """An inline SVG element (no XML declaration) of `places`, with a <title> and <desc>."""
     if not places:
         return ""
+    named = list(places)
+    places = _merge_colocated(places)
     lat0 = sum(p.latitude for p in places) / len(places)
     lon0 = sum(p.longitude for p in places) / len(places)
     k = math.pi / 180 * EARTH_RADIUS_KM
@@ -59,7 +77,7 @@ def locator_svg(places: Sequence[Place], *, title: str = "Where the spots are") 
         if p.kind == "source":
             body.append(f'<rect x="{num(X - 5)}" y="{num(Y - 5)}" width="10" height="10" fill="#ffffff" '
                         f'stroke="{INK}" stroke-width="1.5"/>')
-            body.append(text(X + 9, Y + 4, p.label, size=11, fill=MUTED, halo=True))
+            body.append(text(X, Y + 19, p.label, size=11, anchor="middle", fill=MUTED, halo=True))
             continue
         if p.faces_deg is not None:
             a = math.radians(p.faces_deg)
@@ -78,10 +96,10 @@ def locator_svg(places: Sequence[Place], *, title: str = "Where the spots are") 
     y = HEIGHT - 18
     body.append(f'<path d="M{_PAD},{y - 5} v5 h{num(bar)} v-5" fill="none" stroke="{INK}" stroke-width="1.5"/>')
     body.append(text(_PAD + bar + 6, y, f"{km:g} km", size=11))
-    spots = [p for p in places if p.kind == "spot"]
-    sources = [p for p in places if p.kind == "source"]
-    desc = (f"{len(spots)} spot(s) and {len(sources)} offshore source(s) placed by latitude and longitude "
-            f"(no coastline drawn): " + "; ".join(f"{p.label} at {p.latitude:.4f}, {p.longitude:.4f}" for p in places)
+    spots = [p for p in named if p.kind == "spot"]
+    sources = [p for p in named if p.kind == "source"]
+    desc = (f"{len(spots)} spot(s) and {len(sources)} offshore source(s), by latitude and longitude "
+            f"(no coastline drawn): " + "; ".join(f"{p.label} at {p.latitude:.4f}, {p.longitude:.4f}" for p in named)
             + f". Scale bar {km:g} km; north is up.")
     return (f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {WIDTH} {HEIGHT}" width="{WIDTH}" '
             f'height="{HEIGHT}" role="img" aria-labelledby="locator-title locator-desc" class="locator" '

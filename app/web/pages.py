@@ -62,9 +62,12 @@ def palette_css() -> Response:
 def spots_page(request: Request, session: SessionDep, settings: SettingsDep) -> Response:
     from app.ingest.sources import list_sources
     from app.services import outlooks
+    from app.services.agencies import get_agency
     from app.services.spots import list_spots
 
     prefs = views.parse_prefs(request.query_params, default_hours=settings.outlook_hours)
+    if prefs.agency is not None:
+        get_agency(session, prefs.agency)  # 404 page for an unknown agency
     now = _now()
     spots = list_spots(session)
     rows = []
@@ -76,7 +79,7 @@ def spots_page(request: Request, session: SessionDep, settings: SettingsDep) -> 
                                "points": len(spot.break_points)}
         try:
             body = outlooks.get_outlook(session, spot.id, hours=prefs.hours, start=None, units=prefs.units,
-                                        agency_id=None).model_dump(mode="json")
+                                        agency_id=prefs.agency).model_dump(mode="json")
         except ShoalcastError as exc:
             row["note"] = exc.detail
         else:
@@ -119,20 +122,23 @@ def _newest_input(session: Any, spot: Spot) -> datetime | None:
 def spot_page(spot_id: str, request: Request, session: SessionDep, settings: SettingsDep) -> Response:
     from app.api.routes.outlooks import outlook_version
     from app.services import outlooks
+    from app.services.agencies import get_agency
     from app.services.spots import get_spot
 
     prefs = views.parse_prefs(request.query_params, default_hours=settings.outlook_hours)
     spot = get_spot(session, spot_id)
+    if prefs.agency is not None:
+        get_agency(session, prefs.agency)  # 404 page for an unknown agency
     now = _now()
     hour = now.replace(minute=0, second=0, microsecond=0)
-    etag = etag_for(PAGE_VERSION, "spot", outlook_version(session, spot, None), prefs, hour)
+    etag = etag_for(PAGE_VERSION, "spot", outlook_version(session, spot, prefs.agency), prefs, hour)
 
     def build() -> Response:
         error = None
         body: dict[str, Any] = {"steps": [], "notes": [], "cautions": _cautions()}
         try:
             body = outlooks.get_outlook(session, spot.id, hours=prefs.hours, start=None, units=prefs.units,
-                                        agency_id=None).model_dump(mode="json")
+                                        agency_id=prefs.agency).model_dump(mode="json")
         except ShoalcastError as exc:  # no tables yet, say: the page explains instead of failing
             error = exc.detail
         view = views.outlook_view(body, timezone=spot.timezone, prefs=prefs, now=now)

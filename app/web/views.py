@@ -14,6 +14,7 @@ converted here (1 ft = 0.3048 m exactly, international foot; 1 mph = 0.44704 m/s
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from datetime import UTC, datetime
@@ -39,6 +40,7 @@ __all__ = [
 FOOT_M = 0.3048
 MPH_M_S = 0.44704
 HOURS_MAX = 240
+_SLUG = re.compile(r"^[a-z0-9][a-z0-9-]{0,63}$")
 _COMPASS = ["N", "NNE", "NE", "ENE", "E", "ESE", "SE", "SSE", "S", "SSW", "SW", "WSW", "W", "WNW", "NW", "NNW"]
 
 
@@ -54,11 +56,12 @@ class Prefs:
     units: str = "metric"
     tz: str = "spot"  # spot = the spot's own zone first, utc = UTC first
     hours: int = 72
+    agency: str | None = None  # hazard levels by this agency's policy (default: shoalcast's labelled default)
 
     def query(self, **change: Any) -> str:
         """The query string for these preferences with `change` applied (for the switch links)."""
-        values = {"units": self.units, "tz": self.tz, "hours": self.hours, **change}
-        return "?" + "&".join(f"{k}={v}" for k, v in values.items())
+        values = {"units": self.units, "tz": self.tz, "hours": self.hours, "agency": self.agency, **change}
+        return "?" + "&".join(f"{k}={v}" for k, v in values.items() if v is not None)
 
 
 def parse_prefs(query: Mapping[str, str], *, default_hours: int = 72) -> Prefs:
@@ -72,7 +75,11 @@ def parse_prefs(query: Mapping[str, str], *, default_hours: int = 72) -> Prefs:
     if not raw.strip().isdigit() or not 1 <= int(raw) <= HOURS_MAX:
         raise BadQuery(f"query parameter `hours`: a whole number of hours from 1 to {HOURS_MAX}, not {raw!r}",
                        field="hours")
-    return Prefs(units=units, tz=tz, hours=int(raw))
+    agency = query.get("agency")
+    if agency is not None and not _SLUG.match(agency):
+        raise BadQuery(f"query parameter `agency`: not an agency id (lower-case letters, digits, dashes): {agency!r}",
+                       field="agency")
+    return Prefs(units=units, tz=tz, hours=int(raw), agency=agency)
 
 
 def parse_refresh(query: Mapping[str, str], *, default: int = 60) -> int:

@@ -22,18 +22,16 @@ from pathlib import Path
 import pytest
 from fastapi.testclient import TestClient
 
-from tests.app.api.conftest import (  # noqa: F401 - `api` and `populated` are fixtures shared with the API tests
+from tests.app.api.conftest import (  # the API tests' invented spot, grid and helpers
     AGENCY_ID,
     LAT,
     LON,
     SOURCE_ID,
     SPOT_ID,
     Api,
-    api,
     grid_text,
     make_settings,
     new_key,
-    populated,
     profile_text,
     store_small_table,
 )

@@ -68,13 +68,24 @@ def test_pages_answer_304_while_nothing_changed(site: Api) -> None:
 
 def test_board_fragment_is_the_table_alone(site: Api) -> None:
     text = html(site.client.get(f"/agencies/{AGENCY_ID}/board"))
-    assert text.lstrip().startswith("<table") and "data-version=" in text and f'href="/spots/{SPOT_ID}"' in text
+    assert text.lstrip().startswith("<table") and "data-version=" in text
+    assert f'href="/spots/{SPOT_ID}?agency={AGENCY_ID}"' in text  # the spot page with the agency's own levels
     page = html(site.client.get(f"/agencies/{AGENCY_ID}"))
     assert 'data-src="/agencies/harbour-guard/board"' in page and "/static/board.js" in page
 
 
+def test_spot_page_with_an_agencys_levels(site: Api) -> None:
+    c = site.client
+    outlook = c.get(f"/v1/spots/{SPOT_ID}/outlook", params={"hours": 6, "agency": AGENCY_ID}).json()
+    text = html(c.get(f"/spots/{SPOT_ID}", params={"hours": 6, "agency": AGENCY_ID}))
+    assert f"Hazard levels: {outlook['policy']}." in text
+    assert f"outlook.svg?hours=6&amp;units=metric&amp;agency={AGENCY_ID}" in text
+    assert f"units=imperial&amp;tz=spot&amp;hours=6&amp;agency={AGENCY_ID}" in text  # switches keep the agency
+
+
 @pytest.mark.parametrize("path", ["/spots/nowhere", "/agencies/nobody", "/agencies/nobody/board",
-                                  "/static/nothing.css", "/spots/nowhere/more"])
+                                  "/static/nothing.css", "/spots/nowhere/more", f"/spots/{SPOT_ID}?agency=nobody",
+                                  "/?agency=nobody"])
 def test_unknown_ids_give_an_html_404(site: Api, path: str) -> None:
     text = html(site.client.get(path), 404)
     assert "<h1>404" in text and "Follow lifeguards" in text and 'href="/"' in text
@@ -90,11 +101,11 @@ def test_unknown_paths_html_for_browsers_problem_json_for_the_api(site: Api) -> 
 @pytest.mark.parametrize("path, field", [
     (f"/spots/{SPOT_ID}?units=furlongs", "units"), (f"/spots/{SPOT_ID}?hours=abc", "hours"),
     (f"/spots/{SPOT_ID}?hours=9999", "hours"), (f"/spots/{SPOT_ID}?tz=mars", "tz"), ("/?units=", "units"),
-    (f"/agencies/{AGENCY_ID}?refresh=0", "refresh"), (f"/agencies/{AGENCY_ID}?refresh=soon", "refresh"),
+    (f"/agencies/{AGENCY_ID}?refresh=0", "refresh"), (f"/spots/{SPOT_ID}?agency=Not%20An%20Id", "agency"), (f"/agencies/{AGENCY_ID}?refresh=soon", "refresh"),
 ])
 def test_bad_query_values_give_an_html_400_naming_the_parameter(site: Api, path: str, field: str) -> None:
     text = html(site.client.get(path), 400)
-    assert "<h1>400" in text and f"<code>{field}</code>" in text or f"`{field}`" in text
+    assert "<h1>400" in text and f"query parameter `{field}`" in text
 
 
 def test_spot_without_tables_explains_instead_of_failing(site: Api) -> None:
