@@ -45,7 +45,7 @@ def write_page_shots(out: Path, *, spot: str, agency: str) -> list[Path]:
             raise RuntimeError("the page server did not start")
         time.sleep(0.05)
     base = f"http://127.0.0.1:{port}"
-    shots = [("page-spots.png", "/", (1280, 900)), (f"page-spot-{spot}.png", f"/spots/{spot}?hours=48", (1280, 1900)),
+    shots = [("page-spots.png", "/", (1280, 900)), (f"page-spot-{spot}.png", f"/spots/{spot}?hours=48&agency={agency}", (1280, 1900)),
              ("page-board.png", f"/agencies/{agency}", (1280, 760)), ("page-board-phone.png", f"/agencies/{agency}", (390, 900))]
     out.mkdir(parents=True, exist_ok=True)
     written = []
