@@ -1,6 +1,6 @@
 """Spot outlooks: offshore spectra x transfer tables -> breaker heights, peel, swell trains, hazard.
 
-Pipeline (DESIGN.md §2, §4), per spot and time step:
+Pipeline (docs/architecture.md §2, docs/methods.md §4, §9), per spot and time step:
 
 1. Inputs: each of the spot's sources. Model forecast spectra (with an issue time): the latest
    issue's steps are used directly ("model-forecast"). Observations from a station: carried to the

@@ -8,7 +8,7 @@ Analytic answers used:
 - deep water (reference deeper than L0/2): K = 1, direction unchanged (common practice).
 - constant depth: straight rays, K = 1 where open; an island of radius R at distance D blocks
   offshore directions within asin(R/D) of its bearing (tangent lines, geometry).
-- Longuet-Higgins (1957) invariant E·C·Cg along rays (from memory; docs/check-values.md §3).
+- Longuet-Higgins (1957) invariant E·C·Cg along rays (from memory; docs/methods.md §4).
 """
 
 import math
