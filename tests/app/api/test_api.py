@@ -218,6 +218,9 @@ def test_agency_put_get_and_policy_change(populated: Api) -> None:
         "id": AGENCY_ID, "name": "Harbour Guard", "spots": [SPOT_ID], "alert_level": 1, "policy": {"levels": levels}})
     assert r.status_code == 200, r.text
     assert r.json()["policies"][""]["levels"][1]["label"] == "care"
+    # levels and thresholds are shown with the cautions (guidance only; lifeguards and local rules decide)
+    shown = c.get(f"/v1/agencies/{AGENCY_ID}").json()
+    assert any("local rules" in x for x in shown["cautions"]) and any("Guidance only" in x for x in shown["cautions"])
     assert c.get(f"/v1/agencies/{AGENCY_ID}", headers={"If-None-Match": tag}).status_code == 200
     assert_problem(c.put("/v1/agencies/other", headers=populated.auth, json={"id": AGENCY_ID, "name": "x"}), 422, "id")
     bad = {"id": AGENCY_ID, "name": "x", "policy": {"levels": levels[:2]}}
