@@ -172,6 +172,15 @@ def test_remote_only_sources_unless_allowed(migrated_db: str) -> None:
         body["urls"] = ["http://127.0.0.1/x"]
         assert_problem(c.post("/v1/sources", headers=key, json=body), 422, "urls")
         assert_problem(c.post("/v1/sources", headers=key, json={"id": "b3"}), 422, "name")
+        # a DNS name passes here; its fetches are checked against public addresses (tests/app/ingest/test_guard.py)
+        body["urls"] = ["http://feed.example/x"]
+        assert c.post("/v1/sources", headers=key, json=body).status_code in (200, 201)
+    from app.db.session import session_scope
+    from app.db.tables import Source
+
+    with session_scope(migrated_db) as s:
+        added = s.get(Source, "b2")
+        assert added is not None and added.public_only
 
 
 def test_window_and_svg(populated: Api) -> None:
