@@ -76,7 +76,10 @@ def prepare_offshore(
     e = np.asarray(efth, dtype=float)
     nt = e.shape[0]
     part = partition_series(f, d, e)
-    k = max(1, min(max_trains, max((len(t) for t in part.trains), default=1)))
+    # an empty step's partition is one zero-energy train (label 0 on a zero spectrum): not a swell
+    # (only whole empty steps are cleared, so train k stays label k of the stack)
+    found = [tuple(trains) if any(t.m0_m2 > 0 for t in trains) else () for trains in part.trains]
+    k = max(1, min(max_trains, max((len(t) for t in found), default=1)))
     stack = np.zeros((nt, 1 + k) + e.shape[1:])
     stack[:, 0] = e
     for j in range(k):
@@ -90,10 +93,10 @@ def prepare_offshore(
         tp[ok] = peak_period(f, density[ok])
     te = np.where(ok, mom.m_1 / np.where(ok, mom.m0, 1.0), 1.0)  # energy period Tm-1,0
     power = np.where(ok, wave_power_deep_kw_m(h, te), 0.0)
-    peak_dir = np.array([t[0].peak_direction_deg if t else np.nan for t in part.trains], dtype=float)
+    peak_dir = np.array([t[0].peak_direction_deg if t else np.nan for t in found], dtype=float)
     return OffshoreBatch(
         source=source, kind=kind, times=list(times), frequency=f, directions=d, efth=e, stack=stack,
-        trains=tuple(t[:k] for t in part.trains), hm0=h, tp=tp, peak_dir=peak_dir, power_kw_m=power,
+        trains=tuple(t[:k] for t in found), hm0=h, tp=tp, peak_dir=peak_dir, power_kw_m=power,
         issued=issued, observed_at=list(observed_at) if observed_at is not None else [],
         coverage=list(coverage) if coverage is not None else [],
     )  # fmt: skip
