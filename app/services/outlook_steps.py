@@ -19,20 +19,17 @@ from typing import Any
 import numpy as np
 from pydantic import TypeAdapter
 
+from app.cautions import HAZARD as HAZARD_CAUTIONS
 from app.schemas.outlooks import Step
 from app.services.outlook_numbers import deg, degs, grid, num, nums
 from models.constants import FOOT
-from models.hazard import CAUTION, HazardPolicy, hazard_level
+from models.hazard import HazardPolicy, hazard_level
 from models.offshore import OffshoreBatch
 from models.peel import PeelResult
 from models.surf import MIN_HEIGHT_M, PointSetup, SpotArrays
 from models.surf_peel import StepPeel, peel_one, step_peel
 
-CAUTIONS = (
-    "Guidance only: computed from offshore spectra and a seabed model; conditions change quickly.",
-    "Follow lifeguards, official warnings and local rules.",
-    CAUTION,
-)
+CAUTIONS = HAZARD_CAUTIONS  # one wording everywhere (app.cautions)
 NO_PEEL: dict[str, Any] = dict(direction=None, angle_deg=None, first_point=None)  # nothing breaks
 
 _STEPS = TypeAdapter(list[Step])
