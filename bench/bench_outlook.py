@@ -21,9 +21,9 @@ import numpy as np
 
 from app.services.outlooks import (
     PointSetup,
-    _nearshore_many,
     build_steps,
     compute_spots,
+    nearshore_points,
     prepare_offshore,
     transfer_weights,
 )
@@ -117,7 +117,7 @@ def run(quick: bool = False) -> list[dict]:
     ours = numeric + formatting
 
     t = time.perf_counter()
-    _nearshore_many(batch, [p for pts in spots for p in pts])  # the table application + moments
+    nearshore_points(batch, [p for pts in spots for p in pts])  # the table application + moments
     applied = time.perf_counter() - t
 
     label = f"{n} spots x {nt} hourly steps, {stack.shape[1] - 1} trains, 1 point each"

@@ -10,7 +10,7 @@ Peel angle α (Hutt, Black & Mead 2001, from memory): the angle between the peel
 of broken white water, i.e. the path of the breaking point) and the unbroken crest, 0..90°. The
 breaking point stays on the crest, which advances at Cb along its normal; so the breaking point
 moves along the peel line at Vs with Vs·sin α = Cb, giving surfer speed **Vs = Cb / sin α** and
-peel rate (along the crest) **Vp = Vs·cos α = Cb / tan α** (physics.md §5). From break times:
+peel rate (along the crest) **Vp = Vs·cos α = Cb / tan α** (docs/check-values.md §5). From break times:
 two points Δs apart that break Δt apart give sin α = Cb·Δt/Δs.
 
 One break point on locally straight contours: the breaking point runs along the breaking-depth
@@ -61,7 +61,7 @@ class PeelResult(NamedTuple):
 
 
 def crest_speed(breaker_depth_m: ArrayLike, *, g: float = G) -> NDArray[np.float64]:
-    """Crest speed at breaking, shallow-water Cb = √(g·hb) (common approximation, physics.md §5)."""
+    """Crest speed at breaking, shallow-water Cb = √(g·hb) (common approximation, docs/check-values.md §5)."""
     if isinstance(breaker_depth_m, float | int) and math.isfinite(breaker_depth_m) and breaker_depth_m > 0:
         return np.float64(math.sqrt(g * breaker_depth_m))  # scalar fast path (one call per outlook step)
     h = np.asarray(breaker_depth_m, dtype=float)

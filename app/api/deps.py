@@ -3,7 +3,7 @@
 - `SettingsDep`: the app's Settings (set by `create_app`, so tests can pass their own).
 - `SessionDep`: one SQLAlchemy session per request; commits when the handler returns, rolls back on error.
 - `require_scope("write")`: an X-API-Key dependency; missing/unknown/revoked key -> 401, wrong scope -> 403
-  (FastAPI >= 0.122 convention, reference/ecosystem.md §3).
+  (FastAPI >= 0.122 returns 401 for missing credentials, FastAPI pull request 13786; 403 stays for scope).
 - `conditional(...)`: weak ETag from the data version; If-None-Match -> 304 before the body is built.
 """
 

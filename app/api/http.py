@@ -1,7 +1,7 @@
 """HTTP helpers shared by the routes: weak ETags, conditional GET (304) and RFC 9457 problem+json.
 
 - ETags are always weak (`W/"…"`): GZip middleware changes the bytes after the tag is set, so a
-  strong tag would lie (reference/ecosystem.md §3). Tags hash the data version, not the body.
+  strong tag would lie (RFC 9110 §8.8.3: a strong validator changes with every byte). Tags hash the data version, not the body.
 - `If-None-Match` uses the weak comparison of RFC 9110 §8.8.3.2 and accepts a list or `*`.
 - A 304 repeats the ETag, Cache-Control and Vary the 200 would carry, and has no body (RFC 9110 §15.4.5).
 - Problem bodies (RFC 9457) carry `status` equal to the HTTP status and use `application/problem+json`.

@@ -18,7 +18,15 @@ def _add(args: argparse.Namespace) -> int:
             add_agency(session, config)
         kind = "its own policy" if config.policy else "the labelled default policy"
         print(f"added agency {config.id}: {len(config.spots)} spot(s), {kind}, alerts at level {config.alert_level}+")
+    _print_cautions()
     return 0
+
+
+def _print_cautions() -> None:
+    from app.cautions import HAZARD
+
+    for c in HAZARD:
+        print(f"caution: {c}")
 
 
 def _list(args: argparse.Namespace) -> int:
@@ -33,6 +41,7 @@ def _list(args: argparse.Namespace) -> int:
         ["id", "name", "spots", "alert level", "policies"],
         [[a.id, a.name, ", ".join(a.spots), a.alert_level, ", ".join(k or "default" for k in a.policies) or "(shoalcast default)"] for a in agencies],
     )
+    _print_cautions()
     return 0
 
 

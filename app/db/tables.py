@@ -117,6 +117,8 @@ class Source(Base):
     urls: Mapped[list[str]] = mapped_column(JSONType, default=list)
     poll_minutes: Mapped[float] = mapped_column(default=30.0)
     config: Mapped[dict[str, Any]] = mapped_column(JSONType, default=dict)
+    # added through the API: fetches may only reach public addresses (app.ingest.guard)
+    public_only: Mapped[bool] = mapped_column(default=False, server_default=sa.false())
     created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
 
     health: Mapped[SourceHealth | None] = relationship(

@@ -63,7 +63,7 @@ STATION_LATITUDE = -41.740
 STATION_LONGITUDE = -127.800  # ~41 km west of the demo coast (nominal, open ocean)
 STATION_DEPTH_M = 2800.0
 
-# The 47-band grid of the agency's current buoys (reference/formats.md §1.5): 0.02; 0.0325-0.0925 by
+# The 47-band grid of the agency's current buoys (docs/formats.md §1.5): 0.02; 0.0325-0.0925 by
 # 0.005; 0.10-0.35 by 0.01; 0.365-0.485 by 0.02 [Hz].
 NDBC_FREQUENCIES_HZ = np.round(np.concatenate([
     [0.02], 0.0325 + 0.005 * np.arange(13), 0.10 + 0.01 * np.arange(26), 0.365 + 0.02 * np.arange(7),
@@ -173,7 +173,7 @@ def directional_moments(e, directions_deg):
 
     With A the nautical FROM direction and D = E/S: c_n = ∫ D e^{inA} dA; r1 = |c1|, α1 = arg c1,
     r2 = |c2|, α2 = ½ arg c2 taken on the side (±180°) nearer α1, as the agency does
-    (reference/formats.md §1.6). In this frame the buoy's D(A) = (1/π)(½ + r1 cos(A-α1) + r2 cos 2(A-α2)).
+    (docs/formats.md §1.6). In this frame the buoy's D(A) = (1/π)(½ + r1 cos(A-α1) + r2 cos 2(A-α2)).
     Returns (density, r1, r2, alpha1_deg, alpha2_deg); coefficients NaN where the band is empty.
     """
     e = np.asarray(e, float)
@@ -341,7 +341,7 @@ def write_feed(directory: str | os.PathLike, *, now: datetime, scenario: Scenari
 
 
 def write_source_profiles(directory: str | os.PathLike, *, base_url: str, poll_minutes: float = 5.0) -> list[Path]:
-    """Source TOMLs (DESIGN.md §7) for the station and the model, pointing at `base_url`
+    """Source TOMLs (docs/formats.md §7, README "Add a source") for the station and the model, pointing at `base_url`
     (e.g. ``http://127.0.0.1:8765``, where app.demo.server serves the feed directory)."""
     out = Path(directory)
     out.mkdir(parents=True, exist_ok=True)

@@ -5,7 +5,7 @@ problem it finds (element order, required elements, enumerations, the numeric-of
 identifier characters, polygon/circle syntax and ranges, references). The XSD transcribed beside this
 module (`cap-1.2.xsd`, see `CAP_XSD_PATH`) checks structure independently; tests run both.
 
-Traps this module exists to avoid (reference/formats.md §3):
+Traps this module exists to avoid (docs/formats.md §3):
 - CAP datetimes carry a numeric offset and UTC is written `-00:00`; `Z` is forbidden. This is the
   opposite of RFC 3339 JSON, where we write `Z` (keep one serializer per format).
 - CAP polygons and circles are `lat,lon` (GeoJSON is `[lon, lat]`).

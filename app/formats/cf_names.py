@@ -1,5 +1,5 @@
 """The CF standard_names shoalcast writes (frozen; from the CF standard-name table via
-reference/formats.md §2.1, plus the CF coordinate names time/latitude/longitude/forecast_reference_time).
+docs/formats.md §2.1, plus the CF coordinate names time/latitude/longitude/forecast_reference_time).
 
 A test asserts every standard_name in a file we write is in this set: add a name here only after
 checking it in the CF table.

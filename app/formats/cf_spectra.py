@@ -8,7 +8,7 @@ _FillValue/missing_value, scale_factor/add_offset, `<unit> since <date>` times (
 Hz or rad/s frequency, per-degree or per-radian directional density, radian or degree directions.
 Directions must be FROM (a `_to_direction` coordinate is turned around).
 
-Writer: the DSG timeSeries orthogonal multidimensional layout of reference/formats.md §2.2
+Writer: the DSG timeSeries orthogonal multidimensional layout of docs/formats.md §2.2
 (`time` unlimited and first, `station`, `frequency`, `direction`), Conventions CF-1.11; the
 standard_names used are all in `app.formats.cf_names.WRITTEN_STANDARD_NAMES`.
 """

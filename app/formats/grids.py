@@ -5,7 +5,7 @@ NaN, values with the file's sign). `to_depth_grid` converts one to the model's
 `models.bathymetry.DepthGrid`: depth positive down on a regular grid in local metres about the
 spot's origin (WGS 84 transverse Mercator from `models.geodesy`; scale error 3e-5 at 50 km).
 
-Formats (see reference/formats.md §5):
+Formats (see docs/formats.md §5):
 
 * ESRI ASCII: header keys NCOLS, NROWS, XLLCORNER|XLLCENTER, YLLCORNER|YLLCENTER, CELLSIZE (or DX
   and DY), optional NODATA_VALUE, in any case; then NROWS×NCOLS values, first row = north, line

@@ -1,6 +1,6 @@
 """NDBC historical annual spectral files: swden `w`, swdir `d`, swdir2 `i`, swr1 `j`, swr2 `k`.
 
-Layout (reference/formats.md §1.5): one header line whose column names after the time columns are the
+Layout (docs/formats.md §1.5): one header line whose column names after the time columns are the
 frequencies [Hz] (`.0200 .0325 ...`); plain values, no parentheses; 999/999.0/999.00 missing. Time
 layouts: `#YY MM DD hh mm` (2007+), `YYYY MM DD hh mm` without `#` (2005-06), `YYYY MM DD hh` (no
 minutes, 2000-04) and 2-digit `YY` (pre-2000, taken as 19YY). Grids: 47 bands (2007+) and the old

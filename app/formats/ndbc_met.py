@@ -1,6 +1,6 @@
 """NDBC standard meteorological text file (`.txt` realtime, `h` historical) -> MetRecord.
 
-Layout (reference/formats.md §1.4): a names line (`#YY MM DD hh mm WDIR WSPD GST WVHT DPD APD MWD PRES
+Layout (docs/formats.md §1.4): a names line (`#YY MM DD hh mm WDIR WSPD GST WVHT DPD APD MWD PRES
 ATMP WTMP DEWP VIS [PTDY] TIDE`), usually a units line, then rows. Realtime writes missing as `MM`;
 historical files are 9-filled with a sentinel **per column** (WDIR/MWD 999, WSPD/GST/VIS 99.0,
 WVHT/DPD/APD/TIDE 99.00, PRES 9999.0, ATMP/WTMP/DEWP 999.0), so a real 99° direction is data. Older

@@ -1,6 +1,6 @@
 """NDBC realtime spectral text set: `.data_spec`, `.swdir`, `.swdir2`, `.swr1`, `.swr2`.
 
-Layout (reference/formats.md §1.2): one `#` header line; rows `YYYY MM DD hh mm`, then Sep_Freq
+Layout (docs/formats.md §1.2): one `#` header line; rows `YYYY MM DD hh mm`, then Sep_Freq
 (`.data_spec` only), then `value (freq)` pairs — the frequencies are on every row, so the grid is read
 per row and may change mid-file. Rows are newest first; 999 means missing; times UTC. The five files
 carry different minutes and are joined on time within a tolerance (default ±20 min).

@@ -27,7 +27,20 @@ _L, _R, _T, _B = 70.0, 700.0, 104.0, 410.0   # plot box
 _TYPICAL, _SETS, _LARGEST = "#26285e", "#2f8f9d", "#26285e"
 # Swell-train lines: distinct dashes first, colours second (both differ in lightness).
 _TRAINS = [("#c26a12", "7 3"), ("#7b4f9e", "2 3"), ("#5d7a1f", "9 3 2 3"), ("#8a5a44", "4 2")]
-_HAZARD = {0: ramp(0.08), 1: ramp(0.38), 2: ramp(0.68), 3: ramp(1.0)}
+# Hazard strip: a warm sequence of its own (pale sand -> amber -> orange -> brick), so no level shares
+# a colour with the height lines (navy, teal); lightness falls with the level, and each cell also
+# carries its level number as text, so colour is never the only carrier. Text colour per level keeps
+# a WCAG 2.1 contrast of at least 4.5:1 (tests/app/formats/test_svg.py).
+_HAZARD = {0: "#f4efe1", 1: "#f0c96b", 2: "#d9782f", 3: "#9c2f22"}
+_HAZARD_TEXT = {0: INK, 1: INK, 2: INK, 3: "#ffffff"}
+
+
+def level_label(level: int, label: str) -> str:
+    """'level 2' or 'level 2: heavy surf' (a label that already names the level is not repeated)."""
+    label = label.strip()
+    if not label or label.lower() == f"level {level}":
+        return f"level {level}"
+    return label if str(level) in label else f"level {level}: {label}"
 
 
 def _parse_time(value: Any) -> datetime | None:
@@ -209,6 +222,9 @@ def outlook_svg(steps: Sequence[Mapping[str, Any]], *, units: str = "metric", sp
                      f'fill="{fill}"/>')
         if level is not None:
             seen_levels.setdefault(level, label)
+            if right - left >= 12:  # the level as text too, where the run is wide enough to hold it
+                strip.append(text((left + right) / 2, _T - 14, str(level), size=10.5, anchor="middle",
+                                  weight="bold", fill=_HAZARD_TEXT[level]))
         i = j + 1
     strip.append(f'<rect x="{num(_L)}" y="{num(_T - 26)}" width="{num(_R - _L)}" height="16" fill="none" '
                  f'stroke="{INK}" stroke-width="0.8"/>')
@@ -268,8 +284,9 @@ def outlook_svg(steps: Sequence[Mapping[str, Any]], *, units: str = "metric", sp
         for level in sorted(seen_levels):
             leg.append(f'<rect x="{num(lx)}" y="{num(y - 11)}" width="30" height="13" fill="{_HAZARD[level]}" '
                        f'stroke="{INK}" stroke-width="0.6"/>')
-            lab = f"{level}" + (f" {seen_levels[level]}" if seen_levels[level] else "")
-            leg.append(text(lx + 38, y, lab[:26], size=11.5))
+            leg.append(text(lx + 15, y - 1.5, str(level), size=10.5, anchor="middle", weight="bold",
+                            fill=_HAZARD_TEXT[level]))
+            leg.append(text(lx + 38, y, level_label(level, seen_levels[level])[:26], size=11.5))
             y += 20
     body.append('<g id="legend">' + "".join(leg) + "</g>")
 

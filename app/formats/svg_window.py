@@ -21,6 +21,8 @@ __all__ = ["WIDTH", "HEIGHT", "swell_window_svg"]
 WIDTH, HEIGHT = 790, 660
 _CX, _CY = 305.0, 348.0       # plot centre
 _R_IN, _R_OUT = 34.0, 212.0   # radius of the shortest / longest period cell edges
+LAND_LABEL_RADIUS = _R_OUT + 8.0   # centre line of the hatched land band (_R_OUT + 3 .. + 13)
+DEGREE_LABEL_RADIUS = _R_OUT + 24.0
 _CAUTION = "Guidance only; conditions change. Follow lifeguards, official warnings and local rules."
 _COMPASS = ["N", "NE", "E", "SE", "S", "SW", "W", "NW"]
 
@@ -123,11 +125,14 @@ def swell_window_svg(
     land0, land1 = faces + 90, faces + 270
     body.append(f'<path d="{_sector(land0, land1, _R_OUT + 3, _R_OUT + 13)}" fill="url(#land-hatch)" '
                 f'stroke="{MUTED}" stroke-width="0.8"/>')
-    lx, ly = _xy(faces + 180, _R_OUT + 20)
-    side = math.sin(math.radians(faces + 180))
-    anchor = "start" if side > 0.3 else "end" if side < -0.3 else "middle"
-    body.append(text(lx, ly + 4 + (0 if anchor != "middle" else 14 * -math.cos(math.radians(faces + 180))),
-                     "land side", size=12, anchor=anchor, fill=MUTED, halo=True))
+    # Its label runs along the band itself (tangent to the rim, never upside down), inside the ring
+    # of degree labels, and midway between two of them (they stand every 30°), so no facing can make
+    # it overlap one (tests/app/formats/test_svg.py checks every 10°).
+    back = (15.0 + 30.0 * round(((faces + 180) % 360 - 15.0) / 30.0)) % 360
+    lx, ly = _xy(back, LAND_LABEL_RADIUS)
+    turn = back - 180 if 90 < back < 270 else back
+    body.append(text(lx, ly, "land side", size=11, anchor="middle", fill=INK, halo=True,
+                     extra=f' dominant-baseline="central" transform="rotate({num(turn)} {num(lx)} {num(ly)})"'))
 
     # Cells
     cells = []
@@ -164,7 +169,7 @@ def swell_window_svg(
     for b in range(0, 360, 30):
         if b % 90 == 0:
             continue
-        x, y = _xy(b, _R_OUT + 24)
+        x, y = _xy(b, DEGREE_LABEL_RADIUS)
         labels.append(text(x, y + 4, f"{b}°", size=10.5, anchor="middle", fill=MUTED, halo=True))
     for t in ring_periods:  # period labels along the 45°-ish spoke between N and NE, haloed over shading
         x, y = _xy(22.5, radius(t))

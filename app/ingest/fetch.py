@@ -43,6 +43,7 @@ from app.config import get_settings
 from app.db.session import get_engine, scoped
 from app.db.tables import Source, SourceHealth, utcnow
 from app.errors import FetchError
+from app.ingest.guard import PUBLIC_ONLY, GuardedTransport, NonPublicAddress, Resolver, system_resolver
 from app.ingest.store import parse_payload, record_failure, store_result
 from app.schemas.sources import IngestReport
 
@@ -120,6 +121,7 @@ class Fetcher:
         retry_after_cap_s: float = 60.0,
         sleep: Callable[[float], None] = time.sleep,
         transport: httpx.BaseTransport | None = None,
+        resolver: Resolver = system_resolver,
     ) -> None:
         self.timeout_s = timeout_s
         self.retries = max(0, retries)
@@ -133,7 +135,8 @@ class Fetcher:
             follow_redirects=True,
             max_redirects=5,
             headers={"User-Agent": USER_AGENT},
-            transport=transport,
+            # every request passes the guard; only those marked public_only are checked
+            transport=GuardedTransport(transport, resolver=resolver),
         )
 
     @classmethod
@@ -148,14 +151,21 @@ class Fetcher:
 
     # -- one URL -----------------------------------------------------------------------------------
 
-    def get(self, url: str, validators: Mapping[str, Any] | None = None, *, conditional: bool = True) -> Fetched:
-        """GET `url`; body None when unchanged (304, same file stat, or same sha256 as stored)."""
+    def get(
+        self, url: str, validators: Mapping[str, Any] | None = None, *, conditional: bool = True, public_only: bool = False
+    ) -> Fetched:
+        """GET `url`; body None when unchanged (304, same file stat, or same sha256 as stored).
+
+        `public_only` (sources added through the API): no file:// and no connection to a loopback,
+        private or otherwise non-public address, checked on every redirect hop (app.ingest.guard)."""
         old = dict(validators or {}) if conditional else {}
         scheme = urlsplit(url).scheme.lower()
+        if scheme == "file" and public_only:
+            raise FetchError(f"{url}: file:// URLs are not allowed for sources added through the API")
         if scheme == "file":
             fetched = self._get_file(url, old)
         elif scheme in ("http", "https"):
-            fetched = self._get_http(url, old)
+            fetched = self._get_http(url, old, public_only=public_only)
         else:
             raise FetchError(f"{url}: unsupported URL scheme {scheme!r}")
         # A server without validators (or a rewritten file with the same bytes) sends the same content
@@ -164,7 +174,7 @@ class Fetcher:
             return Fetched(url, fetched.name, None, {**old, **fetched.validators}, fetched.attempts)
         return fetched
 
-    def _get_http(self, url: str, old: Mapping[str, Any]) -> Fetched:
+    def _get_http(self, url: str, old: Mapping[str, Any], *, public_only: bool = False) -> Fetched:
         headers = {}
         if old.get("etag"):
             headers["If-None-Match"] = old["etag"]
@@ -175,7 +185,7 @@ class Fetcher:
             attempts += 1
             wait: float | None = None
             try:
-                with self.client.stream("GET", url, headers=headers) as resp:
+                with self.client.stream("GET", url, headers=headers, extensions={PUBLIC_ONLY: public_only}) as resp:
                     if resp.status_code == 304:
                         return Fetched(url, file_name(url), None, dict(old), attempts)
                     if resp.status_code == 200:
@@ -192,6 +202,8 @@ class Fetcher:
                     after = parse_retry_after(resp.headers.get("Retry-After"))
                     if after is not None:
                         wait = min(after, self.retry_after_cap_s)
+            except NonPublicAddress as exc:  # a policy refusal: retrying cannot help
+                raise FetchError(f"{url}: {exc}") from exc
             except httpx.TransportError as exc:  # connect errors, timeouts, broken or truncated transfers
                 error = FetchError(f"{url}: {type(exc).__name__}: {exc or 'no detail'}")
                 error.__cause__ = exc
@@ -369,6 +381,7 @@ def fetch_source(
         if source is None:
             return FetchOutcome(source_id, "error", error=f"no source with id {source_id!r}")
         urls = list(source.urls)
+        public_only = bool(source.public_only)
         health = session.get(SourceHealth, source_id)
         stored_validators: dict[str, Any] = dict(health.validators or {}) if health else {}
     outcome = FetchOutcome(source_id, "error", files=[file_name(u) for u in urls])
@@ -377,7 +390,7 @@ def fetch_source(
         _note_failure(factory, source_id, outcome.error)
         return outcome
     try:
-        fetched = [fetcher.get(u, stored_validators.get(u)) for u in urls]
+        fetched = [fetcher.get(u, stored_validators.get(u), public_only=public_only) for u in urls]
         outcome.attempts = {f.url: f.attempts for f in fetched}
         outcome.changed = [f.name for f in fetched if not f.not_modified]
         if not outcome.changed:
@@ -391,7 +404,7 @@ def fetch_source(
             if f.not_modified:
                 body = _cache_read(cache_dir, source_id, f.url, f.validators.get("sha256"))
                 if body is None:
-                    f = fetcher.get(f.url, conditional=False)
+                    f = fetcher.get(f.url, conditional=False, public_only=public_only)
                     outcome.attempts[f.url] += f.attempts
             batch.append(f if f.body is not None else Fetched(f.url, f.name, body, f.validators, f.attempts))
     except FetchError as exc:

@@ -79,6 +79,7 @@ def add_source(session: Session, config: SourceConfig, *, remote_only: bool = Fa
     source.urls = list(config.urls)
     source.poll_minutes = config.poll_minutes
     source.config = config.model_dump(mode="json")
+    source.public_only = remote_only
     if session.get(SourceHealth, config.id) is None:
         session.add(SourceHealth(source_id=config.id, stored=0, rejected=0, validators={}))
     session.flush()

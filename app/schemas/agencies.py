@@ -7,6 +7,7 @@ from typing import Literal
 
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 
+from app.cautions import HAZARD as HAZARD_CAUTIONS
 from app.schemas.profile import SLUG
 
 
@@ -61,6 +62,7 @@ class AgencyPublic(BaseModel):
     contact: str | None
     policies: dict[str, PolicySpec]  # "" = the agency's default, else spot id
     updated_at: datetime
+    cautions: list[str] = Field(default_factory=lambda: list(HAZARD_CAUTIONS))
 
 
 __all__ = ["AgencyConfig", "AgencyPublic", "LevelSpec", "PolicySpec", "SpotPolicySpec"]

@@ -12,7 +12,7 @@ from models import breaking as br
 from models import waves
 from models.errors import InvalidInput
 
-G981 = 9.81  # the physics.md check values were computed with g = 9.81
+G981 = 9.81  # the docs/check-values.md check values were computed with g = 9.81
 
 
 class TestIndices:
@@ -20,13 +20,13 @@ class TestIndices:
         assert float(br.mccowan(2.0)) == pytest.approx(1.56)  # Hb/hb = 0.78 (McCowan 1894, from memory)
 
     def test_miche(self):
-        # physics.md #16 (M formula, C values): T 10 s, h 5 m / deep -> 4.166 / 22.171 m
+        # docs/check-values.md #16 (M formula, C values): T 10 s, h 5 m / deep -> 4.166 / 22.171 m
         np.testing.assert_allclose(br.miche_limit(10.0, [5.0, np.inf], g=G981), [4.166, 22.171], atol=1e-3)
         # deep water: 0.142 L0 ≈ L0/7
         assert float(br.miche_limit(8.0, np.inf)) / float(waves.deep_wavelength(8.0)) == pytest.approx(0.142)
 
     def test_weggel_coefficients(self):
-        # physics.md #9 (R formula SPM 1984 eqs 2-93/2-94, C value): m = 0.02 -> a 13.847, b 0.9302; flat: a 0, b 0.78
+        # docs/check-values.md #9 (R formula SPM 1984 eqs 2-93/2-94, C value): m = 0.02 -> a 13.847, b 0.9302; flat: a 0, b 0.78
         a, b = br.weggel_coefficients(0.02)
         assert float(a) == pytest.approx(13.847, abs=1e-3)
         assert float(b) == pytest.approx(0.9302, abs=1e-4)
@@ -35,7 +35,7 @@ class TestIndices:
 
     @pytest.mark.parametrize(
         ("hb", "T", "m", "db", "gamma_b"),
-        # physics.md #9 and #10 (R formula, C value; Weggel 1972 / SPM 1984 eq. 2-92)
+        # docs/check-values.md #9 and #10 (R formula, C value; Weggel 1972 / SPM 1984 eq. 2-92)
         [(2.0, 10.0, 0.02, 2.2174, 0.9020), (3.0, 14.0, 0.1, 2.2943, 1.3076)],
     )
     def test_weggel_depth_and_exact_inverse(self, hb, T, m, db, gamma_b):
@@ -51,21 +51,21 @@ class TestIndices:
         assert float(br.weggel_breaker_depth(hb, T, m)) == pytest.approx(db, rel=1e-12)
 
     def test_komar_gaudiano(self):
-        # physics.md #11 (M formula K&G 1975, C value): H0 1 m, T 10 s -> 1.5467 m
+        # docs/check-values.md #11 (M formula K&G 1975, C value): H0 1 m, T 10 s -> 1.5467 m
         assert float(br.komar_gaudiano(1.0, 10.0, g=G981)) == pytest.approx(1.5467, abs=1e-4)
-        # equivalent form Hb/H0 = 0.563 (H0/L0)^(-1/5) agrees to 0.05 % (physics.md, C)
+        # equivalent form Hb/H0 = 0.563 (H0/L0)^(-1/5) agrees to 0.05 % (docs/check-values.md, C)
         L0 = float(waves.deep_wavelength(10.0, g=G981))
         assert float(br.komar_gaudiano(1.0, 10.0, g=G981)) == pytest.approx(0.563 * (1 / L0) ** -0.2, rel=5e-4)
 
     def test_goda(self):
-        # physics.md #12 (M formula Goda 1970, A 0.17 and coefficient 15; C value): h 2, T 10, m 0.02 -> 1.6773 m
+        # docs/check-values.md #12 (M formula Goda 1970, A 0.17 and coefficient 15; C value): h 2, T 10, m 0.02 -> 1.6773 m
         assert float(br.goda_breaker_height(2.0, 10.0, 0.02, g=G981)) == pytest.approx(1.6773, abs=1e-4)
         # shallow limit: Hb -> 1.5π A h (1 + 15 m^(4/3)) (exact from the formula)
         h = 1e-3
         assert float(br.goda_breaker_height(h, 10.0, 0.0 + 1e-12)) == pytest.approx(1.5 * np.pi * 0.17 * h, rel=1e-3)
 
     def test_battjes_janssen_fraction(self):
-        # physics.md #14 (M formula BJ78, C values): Hrms/Hm 0.5 / 0.7 / 0.9 -> 0.019827 / 0.19241 / 0.64574
+        # docs/check-values.md #14 (M formula BJ78, C values): Hrms/Hm 0.5 / 0.7 / 0.9 -> 0.019827 / 0.19241 / 0.64574
         q = br.battjes_janssen_fraction([0.5, 0.7, 0.9], 1.0)
         np.testing.assert_allclose(q, [0.019827, 0.19241, 0.64574], atol=6e-6)  # to the digits quoted
         b2 = np.array([0.5, 0.7, 0.9]) ** 2
@@ -82,13 +82,13 @@ class TestIndices:
         assert float(br.battjes_janssen_fraction(min(ratio * 1.01, 0.9999), 1.0)) >= q  # rises with Hrms/Hm
 
     def test_battjes_stive_gamma(self):
-        # physics.md #15 (M formula BS85, C value): s0 = 0.02 -> 0.7313
+        # docs/check-values.md #15 (M formula BS85, C value): s0 = 0.02 -> 0.7313
         assert float(br.battjes_stive_gamma(0.02)) == pytest.approx(0.7313, abs=1e-4)
 
 
 class TestSurfSimilarity:
     def test_iribarren_check_value(self):
-        # physics.md #17 (C; Battjes 1974): m 0.1, H0 1 m, T 12 s -> ξ0 = 1.4994, plunging offshore
+        # docs/check-values.md #17 (C; Battjes 1974): m 0.1, H0 1 m, T 12 s -> ξ0 = 1.4994, plunging offshore
         xi = float(br.iribarren(0.1, 1.0, 12.0, g=G981))
         assert xi == pytest.approx(1.4994, abs=1e-4)
         assert str(br.breaker_type(xi, at="offshore")) == "plunging"
@@ -121,8 +121,8 @@ class TestPower:
 
     def test_regular_power_at_depth_and_crest_speed(self):
         p = float(br.wave_power(1.0, 10.0, depth=10.0, g=G981))
-        assert p == pytest.approx(1025 * G981 / 8 * 8.0699, rel=1e-4)  # Cg(10 s, 10 m) = 8.0699 (physics.md §1, C)
-        # physics.md §5 (C): hb = 2 m -> Cb = √(g hb) = 4.429 m/s
+        assert p == pytest.approx(1025 * G981 / 8 * 8.0699, rel=1e-4)  # Cg(10 s, 10 m) = 8.0699 (docs/check-values.md §1, C)
+        # docs/check-values.md §5 (C): hb = 2 m -> Cb = √(g hb) = 4.429 m/s
         assert float(br.breaking_crest_speed(2.0, g=G981)) == pytest.approx(4.429, abs=1e-3)
         assert float(br.breaking_crest_speed(2.0, period=12.0)) < float(br.breaking_crest_speed(2.0))
 
@@ -130,7 +130,7 @@ class TestPower:
 class TestSnell:
     @pytest.mark.parametrize(
         ("h", "H", "theta"),
-        # physics.md §2 worked example (C): H0 2 m, T 10 s, θ0 30°, parallel contours
+        # docs/check-values.md §2 worked example (C): H0 2 m, T 10 s, θ0 30°, parallel contours
         [(20.0, 1.7788, 22.846), (10.0, 1.8730, 17.207), (5.0, 2.0925, 12.518), (3.0, 2.3185, 9.801)],
     )
     def test_worked_example(self, h, H, theta):

@@ -46,7 +46,7 @@ def test_two_trains_recovered_with_height_period_direction():
     assert a.peak_direction_deg == pytest.approx(250.0, abs=2.5)
     assert b.peak_direction_deg == pytest.approx(180.0, abs=2.5)
     assert a.mean_direction_deg == pytest.approx(250.0, abs=2.0)
-    # Kuik spread of cos-2s s = 25 is 15.89° (physics.md §6, computed); truncation narrows it slightly
+    # Kuik spread of cos-2s s = 25 is 15.89° (docs/check-values.md §6, computed); truncation narrows it slightly
     assert a.spread_deg == pytest.approx(15.89, abs=1.5)
     # the label grid marks the swell peak cell as train 0
     i, j = np.unravel_index(np.argmax(swell), swell.shape)
@@ -58,7 +58,7 @@ def test_single_train_is_one_partition_and_exact():
     r = partition_spectrum(F, D, e)
     assert len(r.trains) == 1 and np.all(r.labels == 0)
     assert r.trains[0].hm0_m == pytest.approx(1.5, rel=1e-9)  # jonswap is scaled to hs on this grid
-    assert r.trains[0].spread_deg == pytest.approx(20.26, abs=0.1)  # s = 15 -> 20.26°, physics.md §6
+    assert r.trains[0].spread_deg == pytest.approx(20.26, abs=0.1)  # s = 15 -> 20.26°, docs/check-values.md §6
 
 
 def test_close_peaks_merge_by_kappa():

@@ -1,4 +1,4 @@
-"""Peel: direction by the surfer's view, peel angle from break times, speeds (physics.md §5).
+"""Peel: direction by the surfer's view, peel angle from break times, speeds (docs/check-values.md §5).
 
 Break times are made independently of the code's formula: a straight crest travelling at Cb
 reaches a point p at t = (p · k̂) / Cb (plane-wave kinematics); the expected peel angle is then the
@@ -21,7 +21,7 @@ from models.peel import (
     peel_speeds,
 )
 
-CB = 4.429  # ≈ √(g · 2 m), physics.md §5
+CB = 4.429  # ≈ √(g · 2 m), docs/check-values.md §5
 
 
 def _times(x, y, wave_from_deg, cb=CB):
@@ -36,7 +36,7 @@ X = np.full_like(Y, -50.0)
 
 
 def test_peel_speed_check_values():
-    # physics.md §5 (definition from memory, Hutt, Black & Mead 2001; values computed there with
+    # docs/check-values.md §5 (definition from memory, Hutt, Black & Mead 2001; values computed there with
     # g = 9.81): hb = 2 m
     cb = float(crest_speed(2.0, g=9.81))
     assert cb == pytest.approx(4.429, abs=5e-4)

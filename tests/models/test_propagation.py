@@ -24,7 +24,7 @@ G = 9.80665
 
 @pytest.mark.parametrize(
     ("period", "cg", "hours_per_1000km"),
-    # physics.md §8 check values (Cg0 = gT/4π, computed there with g = 9.81: 14 s -> 10.929 m/s)
+    # docs/check-values.md §8 check values (Cg0 = gT/4π, computed there with g = 9.81: 14 s -> 10.929 m/s)
     [(10, 7.807, 35.58), (12, 9.368, 29.65), (14, 10.929, 25.42), (16, 12.490, 22.24), (20, 15.613, 17.79)],
 )
 def test_group_speed_and_delay_check_values(period, cg, hours_per_1000km):
@@ -50,7 +50,7 @@ def test_delay_is_projection_over_cg_and_long_periods_first():
 
 def test_dispersion_slope_recovers_distance():
     # Munk 1947 / Snodgrass et al. 1966 (from memory): arrival frequency rises as df/dt = g/(4πΔ);
-    # physics.md §8: 0.01 Hz/day -> 6745 km
+    # docs/check-values.md §8: 0.01 Hz/day -> 6745 km
     f = np.linspace(0.04, 0.1, 13)
     d = arrival_delay(f, [0.0], distance_m=6745e3, bearing_deg=180.0, g=9.81)[:, 0]  # §8 uses g = 9.81
     slope = np.polyfit(d, f, 1)[0] * 86400

@@ -13,7 +13,7 @@ from hypothesis import strategies as st
 from models import spectra as sp
 from models.errors import InvalidInput
 
-F_WIDE = np.arange(0.005, 3.0 + 1e-9, 0.001)  # physics.md §6 integrates the period ratios on 0.005-3 Hz
+F_WIDE = np.arange(0.005, 3.0 + 1e-9, 0.001)  # docs/check-values.md §6 integrates the period ratios on 0.005-3 Hz
 DIRS = np.arange(0.0, 360.0, 2.0)
 
 
@@ -70,7 +70,7 @@ class TestMoments:
 class TestShapes:
     @pytest.mark.parametrize(
         ("gamma", "tm01", "tm02", "te"),
-        # physics.md §6 and #20 (C, integrated on 0.005-3 Hz): PM, JONSWAP 3.3, 7
+        # docs/check-values.md §6 and #20 (C, integrated on 0.005-3 Hz): PM, JONSWAP 3.3, 7
         [(1.0, 0.7718, 0.7109, 0.8572), (3.3, 0.8344, 0.7778, 0.9033), (7.0, 0.8775, 0.8289, 0.9312)],
     )
     def test_period_ratios(self, gamma, tm01, tm02, te):
@@ -110,7 +110,7 @@ class TestSpreading:
 
     @pytest.mark.parametrize(
         ("s", "spread_deg"),
-        # physics.md §6 and #21 (C): Kuik σ = √(2/(s+1)) rad
+        # docs/check-values.md §6 and #21 (C): Kuik σ = √(2/(s+1)) rad
         [(1, 57.30), (2, 46.78), (5, 33.08), (10, 24.43), (15, 20.26), (20, 17.68), (25, 15.89), (50, 11.35), (75, 9.29)],
     )
     def test_kuik_spread_of_cos2s(self, s, spread_deg):
@@ -120,7 +120,7 @@ class TestSpreading:
         assert float(sp.mean_direction(c.a1, c.b1)[0]) == pytest.approx(300.0, abs=1e-9)
 
     def test_cos2s_circular_moments(self):
-        # physics.md #22 (C): s = 10 -> a1 = s/(s+1) = 0.90909, a2 = s(s-1)/((s+1)(s+2)) = 0.68182;
+        # docs/check-values.md #22 (C): s = 10 -> a1 = s/(s+1) = 0.90909, a2 = s(s-1)/((s+1)(s+2)) = 0.68182;
         # mean FROM 270° is travelling toward +x, so the math-frame b's vanish
         c = sp.coefficients_from_spectrum(sp.cos2s(DIRS, mean_dir_deg=270.0, s=10.0)[None, :], DIRS)
         assert float(c.a1[0]) == pytest.approx(0.90909, abs=1e-5)
@@ -211,7 +211,7 @@ class TestReconstruction:
             assert np.all(efth >= 0)
 
     def test_mem_reproduces_moments_but_splits_the_peak(self):
-        # physics.md #23 (C): a1 = 0.90909, a2 = 0.68182 (cos-2s, s = 10, from 270°) -> two MEM peaks
+        # docs/check-values.md #23 (C): a1 = 0.90909, a2 = 0.68182 (cos-2s, s = 10, from 270°) -> two MEM peaks
         # at about ±23.5° from the mean, moments reproduced
         d = np.arange(0.0, 360.0, 0.5)
         n = sp.fourier_to_ndbc(10 / 11, 0.0, 10 * 9 / (11 * 12), 0.0)

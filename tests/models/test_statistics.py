@@ -12,7 +12,7 @@ from models.errors import InvalidInput
 
 
 def test_rayleigh_ratios():
-    # physics.md §6 and #18 (C, exact for the Rayleigh law; Longuet-Higgins 1952)
+    # docs/check-values.md §6 and #18 (C, exact for the Rayleigh law; Longuet-Higgins 1952)
     h3 = float(st.highest_fraction_ratio(3))
     assert h3 == pytest.approx(1.41573, abs=1e-5)
     assert float(st.highest_fraction_ratio(1)) == pytest.approx(math.sqrt(math.pi) / 2, rel=1e-14)  # mean height
@@ -30,7 +30,7 @@ def test_highest_fraction_by_monte_carlo():
 
 @pytest.mark.parametrize(
     ("n", "expected_hrms", "median_hrms", "expected_hm0"),
-    # physics.md §6 table (C, exact integral)
+    # docs/check-values.md §6 table (C, exact integral)
     [(100, 2.2615, 2.2305, 1.5991), (500, 2.5954, 2.5655, 1.8353), (1000, 2.7265, 2.6971, 1.9280), (3000, 2.9221, 2.8936, 2.0662)],
 )
 def test_expected_maximum(n, expected_hrms, median_hrms, expected_hm0):

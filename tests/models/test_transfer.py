@@ -3,12 +3,12 @@
 Analytic answers used:
 - straight parallel contours: Snell's law sin θ/C = const and H = H0·Ks·Kr with
   Ks = sqrt(Cg_0/Cg), Kr = sqrt(cos θ0/cos θ) (Snell; SPM 1984 §2-III, from memory; worked example
-  in reference/physics.md §2, computed). Rays end at the wave base (h = L0/2, common practice),
+  in docs/check-values.md §2, computed). Rays end at the wave base (h = L0/2, common practice),
   so the offshore end of the check is that depth; deep-water Snell differs there by < 0.5 %.
 - deep water (reference deeper than L0/2): K = 1, direction unchanged (common practice).
 - constant depth: straight rays, K = 1 where open; an island of radius R at distance D blocks
   offshore directions within asin(R/D) of its bearing (tangent lines, geometry).
-- Longuet-Higgins (1957) invariant E·C·Cg along rays (from memory; reference/physics.md §3).
+- Longuet-Higgins (1957) invariant E·C·Cg along rays (from memory; docs/methods.md §4).
 """
 
 import math
@@ -90,7 +90,7 @@ def test_planar_slope_directions_from_land_are_blocked(planar_table):
 
 
 def test_reference_worked_example_10s_30deg():
-    # reference/physics.md §2 worked example (computed, g = 9.81): T = 10 s, θ0 = 30°, h = 10 m:
+    # docs/check-values.md §2 worked example (computed, g = 9.81): T = 10 s, θ0 = 30°, h = 10 m:
     # Ks·Kr = 0.9835·0.9522 = 0.9365, θ = 17.207° (deep-water Snell; our rays end at L0/2)
     t = build_table(planar(), 200.0, 0.0, periods_s=[10.0], smoothing_m=0.0, g=9.81)
     k = int(round((90.0 + 30.0) / 2.0))

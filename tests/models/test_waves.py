@@ -46,7 +46,7 @@ class TestLimits:
 
     def test_deep_forms(self):
         T = 14.0
-        assert float(waves.deep_group_velocity(1 / T, g=G981)) == pytest.approx(10.929, abs=5e-4)  # physics.md #24 (C)
+        assert float(waves.deep_group_velocity(1 / T, g=G981)) == pytest.approx(10.929, abs=5e-4)  # docs/check-values.md #24 (C)
         assert float(waves.deep_wavelength(10.0, g=G981)) == pytest.approx(156.131, abs=1e-3)  # L0 = gT²/2π (C)
         np.testing.assert_allclose(waves.group_velocity_ratio(0.5, np.inf), 0.5)
 
@@ -56,12 +56,12 @@ class TestLimits:
         np.testing.assert_allclose(x, _long_double_kh(y), rtol=1e-13)
 
     def test_kh_at_k0h_one(self):
-        # physics.md #1 (C): x tanh x = 1 -> 1.199679
+        # docs/check-values.md #1 (C): x tanh x = 1 -> 1.199679
         f = np.sqrt(waves.G) / (2 * np.pi)
         assert float(waves.wavenumber(f, 1.0)) == pytest.approx(1.199679, abs=1e-6)
 
 
-# SPM 1984 Table C-1 layout, values computed from linear theory (physics.md §1.1, status C;
+# SPM 1984 Table C-1 layout, values computed from linear theory (docs/check-values.md §1.1, status C;
 # the printed SPM rows agree to 4 digits from memory).
 SPM_ROWS = [
     # d/L0, d/L, tanh kh, n, Ks
@@ -89,19 +89,19 @@ def test_spm_table_layout_rows(d_l0, d_l, tanh_kh, n, ks):
 
 
 def test_shoaling_minimum():
-    # physics.md #4 (C, analytic): Ks,min = 0.91299 at d/L0 = 1/(2π) (k0 h = 1)
+    # docs/check-values.md #4 (C, analytic): Ks,min = 0.91299 at d/L0 = 1/(2π) (k0 h = 1)
     d_l0 = np.linspace(0.05, 0.5, 20001)
     _, T, h = _kh_from_d_over_l0(d_l0)
     ks = waves.shoaling_coefficient(1 / T, h, g=G981)
     i = int(np.argmin(ks))
     assert ks[i] == pytest.approx(0.91299, abs=1e-5)
     assert d_l0[i] == pytest.approx(1 / (2 * np.pi), abs=1e-4)
-    # physics.md #5 (C): Ks = 1 again at d/L0 = 0.05742
+    # docs/check-values.md #5 (C): Ks = 1 again at d/L0 = 0.05742
     j = int(np.argmin(np.abs(ks[: i] - 1.0)))
     assert d_l0[j] == pytest.approx(0.05742, abs=5e-5)
 
 
-# physics.md §1 dimensional spot checks (C, g = 9.81): T, h, k, L, C, Cg, n, Ks
+# docs/check-values.md §1 dimensional spot checks (C, g = 9.81): T, h, k, L, C, Cg, n, Ks
 POINTS = [
     (10, 10, 0.068019, 92.374, 9.2374, 8.0699, 0.8736, 0.9835),
     (10, 20, 0.051826, 121.237, 12.1237, 9.2745, 0.7650, 0.9175),
@@ -122,7 +122,7 @@ def test_point_values(T, h, k, L, C, Cg, n, Ks):
 
 
 def test_explicit_approximations_meet_their_stated_accuracy():
-    """Our exact k against three explicit formulas; stated accuracies from physics.md §1:
+    """Our exact k against three explicit formulas; stated accuracies from docs/check-values.md §1:
     Fenton & McKee (1990) "better than 1.7 %" (R, abstract); Guo (2002) 0.75 % (R, abstract);
     Hunt (1979) 6-term, measured 0.186 % (C; the 0.1 % claim is from memory only, so 0.2 % is used).
     Each must also come close to its bound (measured maxima 1.63 %, 0.753 %, 0.186 %, C), so a

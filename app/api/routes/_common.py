@@ -7,11 +7,9 @@ from typing import Any
 from pydantic import BaseModel, ConfigDict, Field
 
 from app.api.http import PROBLEM_MEDIA_TYPE
+from app.cautions import GENERAL
 
-CAUTIONS = [
-    "Guidance only: computed from offshore spectra and a seabed model; conditions change quickly.",
-    "Follow lifeguards, official warnings and local rules.",
-]
+CAUTIONS = list(GENERAL)
 
 
 class Problem(BaseModel):

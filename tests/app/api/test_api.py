@@ -172,6 +172,15 @@ def test_remote_only_sources_unless_allowed(migrated_db: str) -> None:
         body["urls"] = ["http://127.0.0.1/x"]
         assert_problem(c.post("/v1/sources", headers=key, json=body), 422, "urls")
         assert_problem(c.post("/v1/sources", headers=key, json={"id": "b3"}), 422, "name")
+        # a DNS name passes here; its fetches are checked against public addresses (tests/app/ingest/test_guard.py)
+        body["urls"] = ["http://feed.example/x"]
+        assert c.post("/v1/sources", headers=key, json=body).status_code in (200, 201)
+    from app.db.session import session_scope
+    from app.db.tables import Source
+
+    with session_scope(migrated_db) as s:
+        added = s.get(Source, "b2")
+        assert added is not None and added.public_only
 
 
 def test_window_and_svg(populated: Api) -> None:
@@ -218,6 +227,9 @@ def test_agency_put_get_and_policy_change(populated: Api) -> None:
         "id": AGENCY_ID, "name": "Harbour Guard", "spots": [SPOT_ID], "alert_level": 1, "policy": {"levels": levels}})
     assert r.status_code == 200, r.text
     assert r.json()["policies"][""]["levels"][1]["label"] == "care"
+    # levels and thresholds are shown with the cautions (guidance only; lifeguards and local rules decide)
+    shown = c.get(f"/v1/agencies/{AGENCY_ID}").json()
+    assert any("local rules" in x for x in shown["cautions"]) and any("Guidance only" in x for x in shown["cautions"])
     assert c.get(f"/v1/agencies/{AGENCY_ID}", headers={"If-None-Match": tag}).status_code == 200
     assert_problem(c.put("/v1/agencies/other", headers=populated.auth, json={"id": AGENCY_ID, "name": "x"}), 422, "id")
     bad = {"id": AGENCY_ID, "name": "x", "policy": {"levels": levels[:2]}}

@@ -41,13 +41,13 @@ def files(tmp_path_factory):
 
 
 def test_dispersion_slope_matches_the_reference_check_value():
-    # physics.md §8 (C, from df/dt = g/(4πΔ), Munk 1947): 0.01 Hz/day <-> Δ = 6745 km (g = 9.81 there)
+    # docs/check-values.md §8 (C, from df/dt = g/(4πΔ), Munk 1947): 0.01 Hz/day <-> Δ = 6745 km (g = 9.81 there)
     sw = feed.Swell("x", 6745e3, 0.05, 0.06, 0.01, 1.0, 270.0, 270.0, 40.0)
     assert sw.dispersion_slope_hz_per_s * 86400.0 * (9.81 / G) == pytest.approx(0.01, rel=1e-3)
 
 
 def test_station_sees_frequency_rise_linearly_with_the_storm_distance(obs, scenario):
-    # Munk (1947), Snodgrass et al. (1966) via physics.md §8: at a fixed site the arriving frequency
+    # Munk (1947), Snodgrass et al. (1966) via docs/check-values.md §8: at a fixed site the arriving frequency
     # rises linearly in time with slope g/(4πΔ). Measured from the written band densities (with their
     # sampling noise) as the energy-weighted mean frequency of the swell band, before the second
     # swell arrives; the wind sea lies above 0.1 Hz.
@@ -73,7 +73,7 @@ def test_observations_are_hourly_up_to_now(obs):
     assert times == sorted(times) and times[-1] <= NOW and NOW - times[-1] < timedelta(hours=1)
     assert all(b - a == timedelta(hours=1) for a, b in zip(times, times[1:], strict=False))
     assert all(r.issue_time is None and r.station == feed.STATION_ID for r in obs)
-    assert obs[0].frequency.size == 47  # the agency's 47-band grid (reference/formats.md §1.5)
+    assert obs[0].frequency.size == 47  # the agency's 47-band grid (docs/formats.md §1.5)
 
 
 def _sector_hs(record, lo_deg, hi_deg, f_max):
@@ -111,7 +111,7 @@ def test_main_swell_veers_slightly(obs):
 
 def test_coefficients_match_cos2s_moments_and_models_spectra(obs, scenario):
     # cos-2s: a1 = s/(s+1), a2 = s(s-1)/((s+1)(s+2)) about the mean (Longuet-Higgins et al. 1963;
-    # physics.md §6, C); in the peak band at `now` the west swell holds nearly all the energy
+    # docs/check-values.md §6, C); in the peak band at `now` the west swell holds nearly all the energy
     r = obs[-1]
     s = scenario.swells[0].spreading_s
     k = int(np.argmax(np.where(r.frequency < 0.1, r.density, 0)))

@@ -1,7 +1,7 @@
 """Atom 1.0 index feed of CAP alerts: parses back with xml.etree and every link resolves.
 
 Sources: RFC 4287 §4.1 (feed/entry required elements: id, title, updated; from memory); CAP index
-feed layout as in reference/formats.md §3 (link type application/cap+xml).
+feed layout as in docs/formats.md §3 (link type application/cap+xml).
 """
 
 from __future__ import annotations

@@ -1,7 +1,7 @@
 """CAP 1.2 alerts: rule checks (validate_cap) and the transcribed XSD (xmlschema) must both pass.
 
 Sources: OASIS CAP v1.2 (2010) §3 element list, enumerations and the §3.3.2 DateTime form (from
-memory, as summarised in reference/formats.md §3); RFC 7946 §3.1.1 position order [lon, lat].
+memory, as summarised in docs/formats.md §3); RFC 7946 §3.1.1 position order [lon, lat].
 """
 
 from __future__ import annotations

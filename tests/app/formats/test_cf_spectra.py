@@ -62,7 +62,7 @@ def test_xarray_opens_our_file_with_cf_names_units_values():
         assert ds.time.values[0] == np.datetime64("2031-02-01T00:00:00")
         assert ds.forecast_reference_time.values == np.datetime64("2031-01-31T18:00:00")
         np.testing.assert_allclose(ds.efth.values[1, 1], recs[4].efth)
-        # ∫ efth dθ (θ in radians) = ef (formats.md §2 "how to test")
+        # ∫ efth dθ (θ in radians) = ef (docs/formats.md §2 "how to test")
         np.testing.assert_allclose(ds.efth.values.sum(axis=-1) * np.radians(30.0), ds.ef.values)
         np.testing.assert_allclose(ds.hs.values[2, 0], hm0(FREQ, recs[2].density))
         names = {v.attrs["standard_name"] for v in ds.variables.values() if "standard_name" in v.attrs}

@@ -1,6 +1,6 @@
 """Property tests: damaged historical annual spectral sets (swden w, swdir d, swdir2 i, swr1 j, swr2 k).
 
-Clean sets follow the published layout (reference/formats.md §1.5: one header line whose column names
+Clean sets follow the published layout (docs/formats.md §1.5: one header line whose column names
 after the time columns are the frequencies; plain values; r1/r2 stored ×100), in the three time
 layouts (`#YY MM DD hh mm` 2007+, `YYYY MM DD hh mm` 2005-06, `YYYY MM DD hh` 2000-04). Rows are then
 damaged: cut short at a token boundary, a junk token put in or swapped in, NaN, a negative value, a
@@ -169,7 +169,7 @@ def test_damaged_historical_sets_give_good_rows_and_rejects(case):
             assert rec.has_coefficients
             for lt in "di":
                 np.testing.assert_allclose(getattr(rec, FIELD[lt]), values[h][lt])
-            for lt in "jk":  # ×100 in the file (formats.md §1.5)
+            for lt in "jk":  # ×100 in the file (docs/formats.md §1.5)
                 np.testing.assert_allclose(getattr(rec, FIELD[lt]), values[h][lt] * 0.01)
     assert any("divided by 100" in note for note in res.notes)
 

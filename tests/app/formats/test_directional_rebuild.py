@@ -11,19 +11,19 @@ Sources of the expectations:
   a_n = ∫ D cos nθ dθ, b_n = ∫ D sin nθ dθ, θ the math angle of propagation (TOWARD, counter-clockwise
   from east); r1 = √(a1² + b1²), r2 = √(a2² + b2²). For cos-2s spreading r1 = s/(s+1) and
   r2 = s(s-1)/((s+1)(s+2)) (Longuet-Higgins et al. 1963, from memory).
-- NDBC angles (reference/formats.md §1.6, from NDBC measdes): α1 = 270 − atan2(b1, a1) and
+- NDBC angles (docs/formats.md §1.6, from NDBC measdes): α1 = 270 − atan2(b1, a1) and
   α2 = 270 − ½ atan2(b2, a2) (+180 when that is nearer α1), nautical FROM, degrees clockwise from
-  north; realtime r in 0..1 (formats.md §1.2). The NDBC series (same §1.6)
+  north; realtime r in 0..1 (docs/formats.md §1.2). The NDBC series (same §1.6)
   D(A) = (1/π)(½ + r1 cos(A − α1) + r2 cos 2(A − α2)) has exactly those coefficients.
 - MEM (Lygre & Krogstad 1986): the maximum-entropy D has the four given coefficients by
   construction, so they come back (up to the direction grid).
-- Weighted series (Earle et al. 1999 weights 2/3 and 1/6, per formats.md §1.6 / wavespectra #136):
+- Weighted series (Earle et al. 1999 weights 2/3 and 1/6, per docs/formats.md §1.6 / wavespectra #136):
   D = (1/π)(½ + ⅔ r1 cos(A − α1) + ⅙ r2 cos 2(A − α2)). Its first and second harmonics are the
   input ones times 2/3 and 1/6, so it gives back α1 and α2 but r1·2/3 and r2·1/6, not r1 and r2
   (the weights trade fidelity of the moments for a non-negative, smoother D). Where the series
   would dip below zero it is clipped and the ratios no longer hold exactly; the bands here are
   chosen so it does not dip.
-Rounding: the text layout keeps r to 2 decimals, α to 1 decimal, density to 3 (formats.md §1.2), so
+Rounding: the text layout keeps r to 2 decimals, α to 1 decimal, density to 3 (docs/formats.md §1.2), so
 values that went through the file are compared within half a unit of the last decimal.
 """
 
@@ -49,7 +49,7 @@ FX = Path(__file__).parent / "fixtures"
 
 
 def _math_angle(a_deg):
-    """Nautical FROM [deg] -> math TOWARD [rad]: θ = 270° − A (formats.md §1.6 frame)."""
+    """Nautical FROM [deg] -> math TOWARD [rad]: θ = 270° − A (docs/formats.md §1.6 frame)."""
     return np.deg2rad(270.0 - np.asarray(a_deg))
 
 
@@ -138,7 +138,7 @@ def test_rebuilt_spectrum_integrates_to_the_density_per_band(parsed, method):
 
 def test_fourier_series_returns_the_parsed_coefficients_exactly(parsed):
     # On a uniform grid the discrete harmonic sums up to order 2 are exact, so the NDBC series
-    # gives r1, r2, α1, α2 back to rounding error (formats.md §1.6).
+    # gives r1, r2, α1, α2 back to rounding error (docs/formats.md §1.6).
     _, rec = parsed
     back = coefficients(_rebuild(rec, "fourier"), A, DA)
     np.testing.assert_allclose(back["r1"], rec.r1, atol=1e-12)

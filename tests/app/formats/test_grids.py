@@ -27,7 +27,7 @@ from app.formats.grids import (
 from models.bathymetry import DepthGrid
 from models.geodesy import to_lonlat
 
-# 3 rows x 4 columns; file row 1 is the north row (ESRI "ASCII to Raster" layout, formats.md §5).
+# 3 rows x 4 columns; file row 1 is the north row (ESRI "ASCII to Raster" layout, docs/formats.md §5).
 ASC_BODY = """\
 1 2 3 4
 5 6 -9999 8
@@ -41,7 +41,7 @@ ASC_CENTRE = "ncols 4\nnrows 3\nxllcenter 105\nyllcenter 205\ncellsize 10\nnodat
 
 
 def test_corner_and_centre_registration_give_identical_cell_centres():
-    # Centre = corner + cellsize/2 (Esri "ASCII raster format" header definition, formats.md §5).
+    # Centre = corner + cellsize/2 (Esri "ASCII raster format" header definition, docs/formats.md §5).
     a = parse_esri_ascii(ASC_CORNER, name="corner.asc")
     b = parse_esri_ascii(ASC_CENTRE, name="centre.asc")
     np.testing.assert_array_equal(a.x, [105.0, 115.0, 125.0, 135.0])
@@ -178,7 +178,7 @@ def elevation_field(lon, lat):
 
 def write_gebco_like(path, *, fill_at=None):
     # GEBCO layout: elevation(lat, lon) int16 m, negative below sea level, 1-D cell-centre lat/lon
-    # (gebco.net data formats page, per formats.md §5).
+    # (gebco.net data formats page, per docs/formats.md §5).
     elev = elevation_field(LON[None, :], LAT_DESC[:, None])
     raw = np.round(elev / 0.25).astype(np.int16)  # packed: elevation = 0.25 * raw
     if fill_at is not None:

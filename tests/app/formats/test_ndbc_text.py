@@ -1,5 +1,5 @@
 """NDBC text readers on hand-written fixtures (tests/app/formats/fixtures, invented numbers written
-from the published layouts in reference/formats.md §1; never copied data)."""
+from the published layouts in docs/formats.md §1; never copied data)."""
 
 from __future__ import annotations
 

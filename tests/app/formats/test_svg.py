@@ -139,7 +139,7 @@ def test_outlook_has_lines_band_markers_hazard_strip_and_legend():
     assert len(hazard_rects) == runs + 1  # one per run of equal levels + the frame
     body = " ".join(texts(root))
     for label in ("typical", "sets", "largest expected", "swell train 1 (~13 s)", "swell train 2 (~7 s)",
-                  "time (UTC)", "breaker height (m)", "0 calm", "2 rough", "Tue 24 Mar", "06:00"):
+                  "time (UTC)", "breaker height (m)", "level 0: calm", "level 2: rough", "Tue 24 Mar", "06:00"):
         assert label in body, label
 
 
@@ -195,3 +195,78 @@ def test_outlook_keeps_good_steps_and_reports_bad_ones():
 def test_empty_outlook_is_a_valid_picture():
     root = parse(outlook_svg([]))
     assert "No outlook steps to show" in " ".join(texts(root))
+
+
+# -- readability of the pictures -------------------------------------------------------------------------
+
+
+def _contrast(a: str, b: str) -> float:
+    """WCAG 2.1 contrast ratio (Success Criterion 1.4.3 definition: (L1 + 0.05) / (L2 + 0.05))."""
+    la, lb = sorted((_luminance(a), _luminance(b)), reverse=True)
+    return (la + 0.05) / (lb + 0.05)
+
+
+def test_contrast_formula_against_the_wcag_extremes():
+    # WCAG 2.1: black on white is 21:1, a colour on itself 1:1
+    assert _contrast("#000000", "#ffffff") == pytest.approx(21.0)
+    assert _contrast("#777777", "#777777") == pytest.approx(1.0)
+
+
+def test_hazard_colours_are_their_own_and_level_numbers_are_readable():
+    from app.formats import svg_outlook as so
+
+    line_colours = {so._TYPICAL, so._SETS, so._LARGEST} | {c for c, _ in so._TRAINS}
+    assert not set(so._HAZARD.values()) & line_colours  # no level looks like a height line
+    lum = [_luminance(so._HAZARD[lv]) for lv in range(4)]
+    assert all(b < a for a, b in zip(lum, lum[1:], strict=False))  # darker with the level, readable in grey
+    for lv in range(4):  # WCAG 2.1 AA for text: at least 4.5:1
+        assert _contrast(so._HAZARD[lv], so._HAZARD_TEXT[lv]) >= 4.5, lv
+
+
+def test_hazard_strip_carries_the_level_as_text_and_legend_does_not_repeat_it():
+    steps = outlook_steps()
+    for st in steps:
+        st["hazard"]["label"] = f"level {st['hazard']['level']}"  # the default policy's labels
+    root = parse(outlook_svg(steps))
+    strip = [t for t in texts(root.find(f"{SVG}g[@id='hazard']")) if t != "hazard"]
+    assert set(strip) == {"0", "2"}  # colour is not the only carrier of a level
+    legend = texts(root.find(f"{SVG}g[@id='legend']"))
+    assert "level 0" in legend and "level 2" in legend
+    assert not any(re.fullmatch(r"\d level \d", t) for t in legend)  # once read "0 level 0"
+
+
+def _box(x: float, y: float, w: float, h: float, turn_deg: float = 0.0) -> list[tuple[float, float]]:
+    """Corners of a w x h box centred on (x, y), turned by turn_deg (SVG rotation, clockwise)."""
+    c, s = math.cos(math.radians(turn_deg)), math.sin(math.radians(turn_deg))
+    return [(x + dx * c - dy * s, y + dx * s + dy * c) for dx in (-w / 2, w / 2) for dy in (-h / 2, h / 2)]
+
+
+def _separated(a: list[tuple[float, float]], b: list[tuple[float, float]]) -> bool:
+    """Two convex boxes do not overlap (separating axis theorem on both boxes' edge normals)."""
+    for poly in (a, b):
+        order = [poly[0], poly[1], poly[3], poly[2]]
+        for (x1, y1), (x2, y2) in zip(order, order[1:] + order[:1], strict=True):
+            nx, ny = y2 - y1, x1 - x2
+            pa = [nx * x + ny * y for x, y in a]
+            pb = [nx * x + ny * y for x, y in b]
+            if max(pa) < min(pb) or max(pb) < min(pa):
+                return True
+    return False
+
+
+@pytest.mark.parametrize("faces", range(0, 360, 10))
+def test_land_side_label_never_overlaps_a_degree_or_compass_label(faces):
+    root = parse(window_svg(faces=float(faces)))
+    labels = root.find(f"{SVG}g[@id='labels']")
+    [land] = [t for t in root.iter(f"{SVG}text") if "".join(t.itertext()) == "land side" and t.get("transform")]
+    turn = float(re.search(r"rotate\(([-\d.]+)", land.get("transform")).group(1))
+    size = float(land.get("font-size"))
+    # text boxes: 0.6 em per character (DejaVu Sans averages about 0.55), 1 em high, plus the 3 px halo
+    land_box = _box(float(land.get("x")), float(land.get("y")), 0.6 * size * 9 + 3, size + 3, turn)
+    for t in labels.iter(f"{SVG}text"):
+        body, fs = "".join(t.itertext()), float(t.get("font-size"))
+        if body.endswith(" s"):
+            continue  # period labels sit inside the rim
+        w, h = 0.6 * fs * len(body) + 3, fs + 3
+        x, y = float(t.get("x")), float(t.get("y")) - 0.35 * fs  # y is the baseline
+        assert _separated(land_box, _box(x, y, w, h)), (faces, body)

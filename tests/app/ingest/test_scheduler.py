@@ -54,7 +54,8 @@ def test_jobs_follow_the_sources_table(migrated_db, helpers) -> None:  # type: i
     try:
         assert sync_jobs(sched, migrated_db) == {"added": ["east", "west"], "removed": [], "rescheduled": []}
         west = sched.get_job("west")
-        # ecosystem.md §1: coalesce on, one instance, misfire grace about half the interval
+        # APScheduler 3.x user guide, "Missed job executions and coalescing": coalesce on, one instance;
+        # misfire grace about half the interval (our choice, docs/architecture.md §4)
         assert west.coalesce is True and west.max_instances == 1
         assert west.trigger.interval == timedelta(minutes=30) and west.misfire_grace_time == 900
         assert sched.get_job("east").misfire_grace_time == 300

@@ -34,10 +34,12 @@ levels = [
 """
 
 
-def test_policies_per_spot_and_default(migrated_db: str, tmp_path: Path) -> None:
+def test_policies_per_spot_and_default(migrated_db: str, tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
     f = tmp_path / "a.toml"
     f.write_text(AGENCY.format(l2=2.0))
     assert main(["agency", "add", str(f)]) == 0
+    printed = capsys.readouterr().out
+    assert "caution: Guidance only" in printed and "local rules" in printed  # levels shown with cautions
     with session_scope(migrated_db) as s:
         a = policy_for(s, "harbour-guards", "reef-a")
         b = policy_for(s, "harbour-guards", "reef-b")

@@ -18,7 +18,7 @@ import pytest
 from app.db.session import session_scope
 from app.db.tables import Agency, HazardPolicy
 from app.ingest.store import store_result
-from app.services import hazards, outlooks
+from app.services import hazards, outlook_cache, outlooks
 
 _spec = importlib.util.spec_from_file_location("_outlook_tests", Path(__file__).with_name("test_outlooks.py"))
 ot = importlib.util.module_from_spec(_spec)
@@ -109,7 +109,7 @@ def test_hazards_use_the_cache(migrated_db: str, monkeypatch: pytest.MonkeyPatch
         calls.append(spot_id)
         return real(session, spot_id, **kw)
 
-    monkeypatch.setattr(outlooks, "compute_outlook", counting)
+    monkeypatch.setattr(outlook_cache, "compute_outlook", counting)
     with session_scope(migrated_db) as s:
         _setup(s, [0.5, 1.5, 0.5])
     now = T0 + timedelta(minutes=5)

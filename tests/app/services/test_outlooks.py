@@ -22,10 +22,12 @@ from app.db.session import session_scope
 from app.db.tables import Bathymetry, BreakPoint, Observation, OutlookCache, Source, Spot, TransferTableRow
 from app.formats.records import ParseResult, SpectrumRecord
 from app.ingest.store import store_result
-from app.services import outlooks
+from app.services import outlook_cache, outlooks
+from models import surf_peel
 from models.breaking import shoal_to_breaking
 from models.constants import G
 from models.hazard import DEFAULT_POLICY, HazardLevel, HazardPolicy
+from models.spectra import bin_widths
 from models.waves import phase_speed
 
 _spec = importlib.util.spec_from_file_location(
@@ -177,7 +179,7 @@ def _peel_result(kind: str, ys: tuple[float, ...], from_deg: float):  # type: ig
         seen.append(real(*a, **k))
         return seen[-1]
 
-    with mock.patch.object(outlooks, "peel_from_break_times", spy):
+    with mock.patch.object(surf_peel, "peel_from_break_times", spy):
         run(kind, ys, fx.swell(1.0, 12.0, from_deg))
     return seen[0]
 
@@ -222,9 +224,9 @@ def test_precomputed_transfer_weights_equal_transfer_apply() -> None:
         np.testing.assert_allclose(diff[ok], 0.0, atol=1e-8)
         # the outlook's nearshore summary from the weights equals the one from apply's spectrum
         batch = outlooks.prepare_offshore(fx.hours(T0, 4), f, d, e[:, 0], source="t", kind="model-forecast")
-        hs, _, _, _ = outlooks._nearshore(batch, [p])
+        hs, _, _, _ = outlooks.nearshore_points(batch, [p])
         near = apply(p.table, f, d, batch.stack).density  # (T, 1 + K, nf)
-        np.testing.assert_allclose(hs[0], 4.0 * np.sqrt(np.sum(near * outlooks.bin_widths(f), axis=-1)), rtol=1e-10)
+        np.testing.assert_allclose(hs[0], 4.0 * np.sqrt(np.sum(near * bin_widths(f), axis=-1)), rtol=1e-10)
 
 
 def test_nothing_arriving_gives_nulls_not_nan() -> None:
@@ -439,7 +441,7 @@ def test_cache_unchanged_inputs_do_no_work_and_new_observations_recompute_only_t
         calls.append(spot_id)
         return real(session, spot_id, **kw)
 
-    monkeypatch.setattr(outlooks, "compute_outlook", counting)
+    monkeypatch.setattr(outlook_cache, "compute_outlook", counting)
     issue = T0 - timedelta(hours=6)
     with session_scope(migrated_db) as s:
         a, b = _source(s, "feed-a"), _source(s, "feed-b")
@@ -550,7 +552,7 @@ def test_concurrent_requests_for_an_out_of_date_outlook_compute_it_once(
         release.wait(10)
         return real(session, spot_id, **kw)
 
-    monkeypatch.setattr(outlooks, "compute_outlook", slow)
+    monkeypatch.setattr(outlook_cache, "compute_outlook", slow)
     results: list[float] = []
 
     def poll() -> None:

@@ -113,7 +113,7 @@ def test_planar_slope_table_matches_snell(beach: Path, migrated_db: str) -> None
         row = s.scalars(select(TransferTableRow)).first()
         assert row is not None
         table = svc.load_table(row)
-    # Snell + shoaling from deep water to the reference depth (physics.md §2; refract_and_shoal is
+    # Snell + shoaling from deep water to the reference depth (docs/check-values.md §2; refract_and_shoal is
     # checked against the worked example 2.0925 m / 12.518° in tests/models/test_breaking.py)
     i = 1  # 10.583 s (geometric 8..14)
     j = int(np.argmin(np.abs(table.directions_deg - 250.0)))  # 20° from the shore normal

@@ -1,0 +1,162 @@
+"""Cached outlooks: one stored body per (spot, options), reused while its inputs are unchanged.
+
+`outlook_key` hashes exactly an outlook's inputs; a stored row with that key is answered as it
+is. Single flight: when many requests find the same outlook out of date at once (pollers right
+after an ingest), one computes it and the others answer with the previous outlook meanwhile
+rather than all computing the same thing (only a first-ever outlook makes them wait).
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import logging
+import threading
+from datetime import datetime, timedelta
+from typing import Any
+
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from app.db.tables import OutlookCache, Source, utcnow
+from app.errors import BadInput, Conflict, NotFound
+from app.schemas.outlooks import OutlookBody, OutlookOptions
+from app.services import outlook_inputs as inputs
+from app.services.outlook_compute import OUTLOOK_VERSION, compute_outlook
+from app.services.outlook_inputs import WaterLevel
+
+log = logging.getLogger(__name__)
+
+
+def variant(hours: int, start: datetime | None, units: str, agency_id: str | None, water: Any) -> str:
+    """The options part of a cache row's identity (one row per spot and variant)."""
+    key = json.dumps([hours, None if start is None else start.isoformat(), units, agency_id, water])
+    return hashlib.sha256(key.encode()).hexdigest()[:40]
+
+
+def outlook_key(
+    session: Session,
+    spot_id: str,
+    *,
+    hours: int = 72,
+    start: datetime | None = None,
+    units: str = "metric",
+    agency_id: str | None = None,
+    water_level_m: WaterLevel = 0.0,
+) -> str:
+    """Hash of exactly an outlook's inputs: spot profile, tables (input hash + engine version),
+    the observations it may use (id + content hash), the policy, the options and OUTLOOK_VERSION."""
+    from app.services.spots import get_spot
+
+    inputs.check_options(hours, units)
+    spot = get_spot(session, spot_id)
+    t0 = inputs.floor_hour(utcnow()) if start is None else inputs.aware(start, "start")
+    end = t0 + timedelta(hours=hours)
+    sources = []
+    for sid in spot.sources or []:
+        src = session.get(Source, sid)
+        sources.append([sid, None if src is None else [src.latitude, src.longitude]])
+    doc = {
+        "version": OUTLOOK_VERSION,
+        "spot": [spot.id, spot.profile_sha256, spot.latitude, spot.longitude, spot.faces_deg],
+        "points": [
+            [bp.id, bp.name, bp.x, bp.y, bp.reference_depth_m,
+             None if bp.table is None else [bp.table.id, bp.table.input_hash, bp.table.engine_version]]
+            for bp in spot.break_points
+        ],  # fmt: skip
+        "bathymetry": None if spot.bathymetry is None else spot.bathymetry.sha256,
+        "sources": sources,
+        "observations": [[c.id, c.sha] for c in inputs.candidates(session, spot, t0, end)],
+        "policy": inputs.policy_of(session, agency_id, spot.id).to_mapping(),
+        "options": [hours, t0.isoformat(), units, agency_id, inputs.water_key(water_level_m)],
+    }
+    return hashlib.sha256(json.dumps(doc, sort_keys=True, default=str).encode()).hexdigest()
+
+
+_inflight: dict[tuple[str, str], threading.Lock] = {}
+_inflight_guard = threading.Lock()
+
+
+def inflight_lock(spot_id: str, variant_id: str) -> threading.Lock:
+    """The process-wide lock of one (spot, variant): held by whoever computes it."""
+    with _inflight_guard:
+        return _inflight.setdefault((spot_id, variant_id), threading.Lock())
+
+
+def cached_row(session: Session, spot_id: str, variant_id: str) -> OutlookCache | None:
+    return session.scalars(
+        select(OutlookCache)
+        .where(OutlookCache.spot_id == spot_id, OutlookCache.variant == variant_id)
+        .execution_options(populate_existing=True)
+    ).first()
+
+
+def get_or_compute(session: Session, spot_id: str, **options: Any) -> tuple[OutlookBody, bool]:
+    """(outlook, whether it was computed now): the stored one when its key matches, else computed
+    under the single-flight lock and stored (committed before the lock is released)."""
+    key = outlook_key(session, spot_id, **options)
+    v = variant(options.get("hours", 72), options.get("start"), options.get("units", "metric"),
+                options.get("agency_id"), inputs.water_key(options.get("water_level_m", 0.0)))  # fmt: skip
+    row = cached_row(session, spot_id, v)
+    if row is not None and row.input_hash == key:
+        if row.stale:  # marked by ingest, but nothing it uses changed
+            row.stale = False
+            session.flush()
+        return OutlookBody.model_validate(row.body), False
+    lock = inflight_lock(spot_id, v)
+    if not lock.acquire(blocking=row is None):
+        assert row is not None
+        return OutlookBody.model_validate(row.body), False
+    try:
+        row = cached_row(session, spot_id, v)
+        if row is not None and row.input_hash == key:  # computed while we waited
+            return OutlookBody.model_validate(row.body), False
+        body = compute_outlook(session, spot_id, **options)
+        data = body.model_dump(mode="json")
+        if row is None:
+            row = OutlookCache(spot_id=spot_id, variant=v)
+            session.add(row)
+        row.input_hash, row.stale, row.computed_at, row.body = key, False, utcnow(), data
+        session.flush()
+        session.commit()  # publish before releasing the lock, so waiters find it
+        return body, True
+    finally:
+        lock.release()
+
+
+def get_outlook(
+    session: Session,
+    spot_id: str,
+    *,
+    hours: int = 72,
+    start: datetime | None = None,
+    units: str = "metric",
+    agency_id: str | None = None,
+    water_level_m: WaterLevel = 0.0,
+) -> OutlookBody:
+    """The cached outlook when its inputs are unchanged, else computed and stored (see `outlook_key`)."""
+    return get_or_compute(session, spot_id, hours=hours, start=start, units=units, agency_id=agency_id,
+                          water_level_m=water_level_m)[0]  # fmt: skip
+
+
+def refresh_stale(session: Session) -> list[str]:
+    """Bring every stale cached outlook up to date (the scheduler calls this after ingest).
+
+    Returns the ids of the spots whose outlooks were recomputed. A spot that can no longer be
+    computed (its tables were removed, say) keeps its stale row and is logged, the others go on.
+    """
+    done = []
+    for row in list(session.scalars(select(OutlookCache).where(OutlookCache.stale.is_(True)))):
+        try:
+            opts = OutlookOptions.model_validate(row.body.get("options", {}))
+            _, computed = get_or_compute(session, row.spot_id, hours=opts.hours, start=opts.start, units=opts.units,
+                                         agency_id=opts.agency_id, water_level_m=opts.water_level_m)  # fmt: skip
+        except (ValueError, BadInput, NotFound, Conflict) as exc:
+            log.warning("outlook of spot %s (variant %s) not refreshed: %s", row.spot_id, row.variant, exc)
+            continue
+        if computed:
+            done.append(row.spot_id)
+    return sorted(set(done))
+
+
+__all__ = ["get_or_compute", "get_outlook", "outlook_key", "refresh_stale", "variant"]

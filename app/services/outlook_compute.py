@@ -1,0 +1,62 @@
+"""One spot's outlook computed from the database (no cache): inputs -> arrays -> steps.
+
+`app.services.outlook_inputs` gathers the break points and the offshore inputs,
+`models.surf.compute_spots` turns each input into breaker arrays, `app.services.outlook_steps`
+into steps. The cached entry point is `app.services.outlook_cache.get_outlook`.
+"""
+
+from __future__ import annotations
+
+from datetime import datetime, timedelta
+
+from sqlalchemy.orm import Session
+
+from app.db.tables import utcnow
+from app.schemas.outlooks import OutlookBody, OutlookOptions, Step
+from app.services import outlook_inputs as inputs
+from app.services.outlook_inputs import WaterLevel
+from app.services.outlook_steps import build_steps, cautions_for
+from models.surf import compute_spots
+
+OUTLOOK_VERSION = "outlook-2"  # part of every cache key: bump when the computation changes
+
+
+def compute_outlook(
+    session: Session,
+    spot_id: str,
+    *,
+    hours: int = 72,
+    start: datetime | None = None,
+    units: str = "metric",
+    agency_id: str | None = None,
+    water_level_m: WaterLevel = 0.0,
+) -> OutlookBody:
+    """Compute a spot's outlook from [start, start + hours] (start: the current hour when None)."""
+    from app.services.spots import get_spot
+
+    inputs.check_options(hours, units)
+    spot = get_spot(session, spot_id)
+    t0 = inputs.floor_hour(utcnow()) if start is None else inputs.aware(start, "start")
+    end = t0 + timedelta(hours=hours)
+    notes: list[str] = []
+    points = inputs.spot_points(spot, notes)
+    policy = inputs.policy_of(session, agency_id, spot.id)
+    found = inputs.batches(session, spot, inputs.candidates(session, spot, t0, end), t0, end, notes)
+    if not spot.sources:
+        notes.append("the spot has no sources: no steps")
+    steps: list[Step] = []
+    for batch in inputs.select_inputs(found):
+        wl = inputs.water_level_at(water_level_m, batch.times)
+        arr = compute_spots(batch, [points], water_level_m=wl)[0]
+        steps.extend(build_steps(batch, points, arr, policy, units))
+    steps.sort(key=lambda s: s.time)
+    return OutlookBody(
+        spot_id=spot.id, name=spot.name, units=units, cautions=cautions_for(policy), computed_at=utcnow(), start=t0,
+        hours=hours, policy=policy.name, policy_is_default=policy.is_default, break_points=[p.name for p in points],
+        notes=notes, steps=steps,
+        options=OutlookOptions(hours=hours, start=start, units=units, agency_id=agency_id,
+                               water_level_m=float(water_level_m) if isinstance(water_level_m, int | float) else 0.0),
+    )  # fmt: skip
+
+
+__all__ = ["OUTLOOK_VERSION", "compute_outlook"]

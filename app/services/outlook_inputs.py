@@ -1,0 +1,317 @@
+"""Which offshore spectra an outlook uses, and the spot's break points with their contours.
+
+Each of the spot's sources: model forecast spectra (with an issue time) from the latest issue are
+used directly ("model-forecast"). Observations from a station are carried to the spot by each
+component's deep-water group delay (`models.propagation.shift_to_spot`), a short-range forecast
+("arrival-forecast"; "observed" when the station is at the spot). Where several inputs cover a
+time, observed > arrival-forecast > model-forecast. Buoy coefficients become E(f, θ) by the maximum
+entropy method (MEM, Lygre & Krogstad 1986) on 5° bins: a narrow swell stays narrow, so sheltering
+by a headland is not smeared into the open part of the window; MEM's occasional split of one peak
+in two is merged back by the partitioning (Hanson & Phillips closeness rule).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from datetime import UTC, datetime, timedelta
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from app.db.tables import Observation, Source, Spot
+from app.errors import BadInput, Conflict
+from app.services.tables import load_table
+from models.hazard import HazardPolicy
+from models.offshore import OffshoreBatch, prepare_offshore
+from models.propagation import great_circle_distance, initial_bearing, shift_to_spot
+from models.spectra import directional_spectrum_from_coefficients
+from models.surf import PointSetup
+
+COEFFICIENT_DIRECTIONS_DEG = np.arange(0.0, 360.0, 5.0)
+DIRECTIONAL_METHOD = "mem"
+MIN_SLOPE = 0.005  # a flat bottom at a break point uses this slope (Weggel's fit needs m > 0)
+# An arrival step is used only when its spectrum is (nearly) whole: at least this share of the latest
+# observation's arriving energy lies in components whose emission time is inside the observed span.
+# A partial spectrum (e.g. the fast long-period part not yet observed) would read as a real drop in
+# the surf, so such hours fall back to the model forecast (or are left out) and a note says so.
+ARRIVAL_MIN_ENERGY_COVERAGE = 0.9
+OBSERVED_DISTANCE_M = 1000.0  # a station closer than this to the spot observes the spot itself
+OBSERVATION_LOOKBACK_H = 48.0
+PRIORITY = {"observed": 0, "arrival-forecast": 1, "model-forecast": 2}
+MAX_HOURS = 24 * 16
+
+WaterLevel = float | Sequence[tuple[datetime, float]]
+
+
+# --------------------------------------------------------------------------- options at the edge
+
+
+def floor_hour(t: datetime) -> datetime:
+    return t.astimezone(UTC).replace(minute=0, second=0, microsecond=0)
+
+
+def aware(t: datetime, what: str) -> datetime:
+    """`t` in UTC; BadInput naming `what` when it has no timezone."""
+    if t.tzinfo is None or t.utcoffset() is None:
+        raise BadInput(f"`{what}` must be timezone-aware (UTC), got {t.isoformat()}", field=what)
+    return t.astimezone(UTC)
+
+
+def check_options(hours: int, units: str) -> None:
+    if not (isinstance(hours, int) and 1 <= hours <= MAX_HOURS):
+        raise BadInput(f"`hours` must be a whole number of hours within 1..{MAX_HOURS}, got {hours!r}", field="hours")
+    if units not in ("metric", "imperial"):
+        raise BadInput(f"`units` must be 'metric' or 'imperial', got {units!r}", field="units")
+
+
+def water_level_at(water_level: WaterLevel, times: Sequence[datetime]) -> NDArray[np.float64]:
+    """The water level [m] at `times`: a constant, or linear between (time, level) pairs."""
+    if isinstance(water_level, int | float):
+        out = np.full(len(times), float(water_level))
+    else:
+        pts = sorted((aware(t, "water_level time").timestamp(), float(v)) for t, v in water_level)
+        if not pts:
+            return np.zeros(len(times))
+        ts, vs = np.array([p[0] for p in pts]), np.array([p[1] for p in pts])
+        out = np.interp([t.timestamp() for t in times], ts, vs)
+    if not np.all(np.isfinite(out)):
+        raise BadInput("`water_level_m` must be finite", field="water_level_m")
+    return out
+
+
+def water_key(water_level: WaterLevel) -> Any:
+    """The water level as JSON (part of cache keys)."""
+    if isinstance(water_level, int | float):
+        return float(water_level)
+    return [[aware(t, "water_level time").isoformat(), float(v)] for t, v in water_level]
+
+
+def policy_of(session: Session, agency_id: str | None, spot_id: str) -> HazardPolicy:
+    """The hazard policy an outlook uses (NotFound for an unknown agency)."""
+    from app.services.agencies import get_agency, policy_for
+
+    if agency_id is not None:
+        get_agency(session, agency_id)
+    return policy_for(session, agency_id, spot_id)
+
+
+# --------------------------------------------------------------------------- break points
+
+
+def spot_points(spot: Spot, notes: list[str] | None = None) -> list[PointSetup]:
+    """Break points with a table, in order along the break, with the local contours at each."""
+    from app.services.spots import depth_grid_of
+
+    notes = notes if notes is not None else []
+    grid = depth_grid_of(spot)
+    smoothed: dict[float, Any] = {}
+    out = []
+    for bp in spot.break_points:
+        if bp.table is None:
+            notes.append(
+                f"break point {bp.name!r} has no transfer table (run `shoalcast tables build {spot.id}`)"
+            )
+            continue
+        table = load_table(bp.table)
+        sm = float(table.meta.get("smoothing_m", 0.0) or 0.0)
+        if sm not in smoothed:  # the contours the rays saw
+            smoothed[sm] = grid.smoothed(sm) if sm > 0 else grid
+        geo = smoothed[sm].contour_geometry(bp.x, bp.y)
+        slope, normal = float(geo.slope), float(geo.normal_deg)
+        if not (math.isfinite(slope) and slope >= MIN_SLOPE and math.isfinite(normal)):
+            notes.append(
+                f"break point {bp.name!r}: bottom nearly flat; slope {MIN_SLOPE} and the spot's facing used"
+            )
+            slope, normal = max(slope if math.isfinite(slope) else 0.0, MIN_SLOPE), float(spot.faces_deg)
+        depth = float(geo.depth) if math.isfinite(float(geo.depth)) else float(bp.depth_m)
+        out.append(PointSetup(bp.name, float(bp.x), float(bp.y), table, depth, slope, normal % 360.0))
+    if not out:
+        raise Conflict(
+            f"spot {spot.id!r} has no transfer tables yet: build them with `shoalcast tables build {spot.id}` "
+            f"or POST /v1/spots/{spot.id}/tables"
+        )
+    return out
+
+
+# --------------------------------------------------------------------------- offshore spectra
+
+
+@dataclass(frozen=True)
+class Candidate:
+    """An observation row an outlook may use (no arrays)."""
+
+    id: int
+    sha: str
+    source_id: str
+    time: datetime
+    issue_time: datetime | None
+
+
+def candidates(session: Session, spot: Spot, start: datetime, end: datetime) -> list[Candidate]:
+    """Observation rows an outlook over [start, end] may use (ids and hashes only, no arrays):
+    every observation of the lookback and horizon, and each source's latest forecast issue."""
+    if not spot.sources:
+        return []
+    lookback = start - timedelta(hours=OBSERVATION_LOOKBACK_H)
+    cols = (
+        Observation.id,
+        Observation.content_sha256,
+        Observation.source_id,
+        Observation.time,
+        Observation.issue_time,
+    )
+    rows = [
+        Candidate(*r)
+        for r in session.execute(
+            select(*cols).where(
+                Observation.source_id.in_(spot.sources),
+                Observation.kind == "spectrum",
+                Observation.time >= lookback,
+                Observation.time <= end,
+            )
+        )
+    ]
+    latest: dict[str, datetime] = {}
+    for r in rows:
+        if r.issue_time is not None and (r.source_id not in latest or r.issue_time > latest[r.source_id]):
+            latest[r.source_id] = r.issue_time
+    keep = [
+        r
+        for r in rows
+        if (r.issue_time is None) or (r.issue_time == latest[r.source_id] and start <= r.time <= end)
+    ]
+    return sorted(keep, key=lambda r: (r.source_id, r.issue_time is not None, r.time, r.id))
+
+
+def efth_of(rec: Any) -> tuple[NDArray[np.float64], NDArray[np.float64]] | None:
+    """(directions, efth) of a record: its own E(f, θ), else MEM from the buoy coefficients."""
+    if rec.efth is not None and rec.directions_deg is not None:
+        return np.asarray(rec.directions_deg, dtype=float), np.clip(
+            np.asarray(rec.efth, dtype=float), 0.0, None
+        )
+    if rec.r1 is None:
+        return None
+    d = COEFFICIENT_DIRECTIONS_DEG
+    e = directional_spectrum_from_coefficients(
+        rec.frequency, rec.density, d, r1=rec.r1, r2=rec.r2, alpha1_deg=rec.alpha1_deg, alpha2_deg=rec.alpha2_deg,
+        method=DIRECTIONAL_METHOD,
+    )  # fmt: skip
+    return d, e
+
+
+Record = tuple[Any, NDArray[np.float64], NDArray[np.float64]]  # (record, directions, efth)
+
+
+def records(session: Session, ids: Sequence[int], notes: list[str]) -> list[Record]:
+    """The stored spectra `ids` in time order; one that cannot be read is left out with a note."""
+    from app.ingest.store import record_from_observation
+
+    out = []
+    for obs in session.scalars(
+        select(Observation).where(Observation.id.in_(list(ids))).order_by(Observation.time)
+    ):
+        try:
+            rec = record_from_observation(obs)
+            de = efth_of(rec)
+        except (ValueError, BadInput) as exc:
+            notes.append(f"observation {obs.id} ({obs.source_id} {obs.time.isoformat()}) left out: {exc}")
+            continue
+        if de is None:
+            notes.append(
+                f"observation {obs.id} ({obs.source_id} {obs.time.isoformat()}) has no directions: left out"
+            )
+            continue
+        out.append((rec, *de))
+    return out
+
+
+def one_grid(recs: list[Record], source_id: str, notes: list[str]) -> list[Record]:
+    """Keep the records on the grid of the latest one (a batch needs one (f, θ) grid)."""
+    if not recs:
+        return recs
+    ref = recs[-1]
+    same = [r for r in recs if r[0].frequency.shape == ref[0].frequency.shape and r[1].shape == ref[1].shape
+            and np.allclose(r[0].frequency, ref[0].frequency) and np.allclose(r[1], ref[1])]  # fmt: skip
+    if len(same) < len(recs):
+        notes.append(
+            f"source {source_id!r}: {len(recs) - len(same)} spectra on another frequency/direction grid left out"
+        )
+    return same
+
+
+def batches(
+    session: Session, spot: Spot, cands: list[Candidate], start: datetime, end: datetime, notes: list[str]
+) -> list[OffshoreBatch]:
+    """The partitioned offshore inputs of each source: its latest forecast issue, and its
+    observations (at the spot, or carried to it as an arrival forecast)."""
+    out = []
+    for source_id in dict.fromkeys(c.source_id for c in cands):
+        src = session.get(Source, source_id)
+        mine = [c for c in cands if c.source_id == source_id]
+        fc = one_grid(records(session, [c.id for c in mine if c.issue_time is not None], notes), source_id, notes)
+        if fc:
+            out.append(
+                prepare_offshore(
+                    [r[0].time for r in fc], fc[0][0].frequency, fc[0][1], np.stack([r[2] for r in fc]),
+                    source=source_id, kind="model-forecast", issued=fc[0][0].issue_time,
+                )  # fmt: skip
+            )
+        ob = one_grid(records(session, [c.id for c in mine if c.issue_time is None], notes), source_id, notes)
+        if not ob or src is None:
+            continue
+        times = [r[0].time for r in ob]
+        f, d, e = ob[0][0].frequency, ob[0][1], np.stack([r[2] for r in ob])
+        dist = float(great_circle_distance(src.latitude, src.longitude, spot.latitude, spot.longitude))
+        if dist < OBSERVED_DISTANCE_M:
+            idx = [i for i, t in enumerate(times) if start <= t <= end]
+            if idx:
+                out.append(prepare_offshore([times[i] for i in idx], f, d, e[idx], source=source_id, kind="observed",
+                                            observed_at=[times[i] for i in idx]))  # fmt: skip
+            continue
+        bearing = float(initial_bearing(src.latitude, src.longitude, spot.latitude, spot.longitude))
+        n = int((end - start).total_seconds() // 3600) + 1
+        targets = [start + timedelta(hours=h) for h in range(n)]
+        arr = shift_to_spot(times, f, d, e, distance_m=dist, bearing_deg=bearing, target_times=targets)
+        whole = arr.energy_coverage >= ARRIVAL_MIN_ENERGY_COVERAGE
+        keep = [k for k in range(n) if whole[k] and arr.efth[k].max() > 0]
+        partial = int(np.sum(~whole & (arr.energy_coverage > 0)))
+        if partial:
+            notes.append(
+                f"source {source_id!r}: {partial} arrival hour(s) left out, under "
+                f"{ARRIVAL_MIN_ENERGY_COVERAGE:.0%} of the latest observation's energy observed "
+                "(the model forecast is used there when there is one)"
+            )
+        if keep:
+            out.append(
+                prepare_offshore(
+                    [targets[k] for k in keep], f, d, arr.efth[keep], source=source_id, kind="arrival-forecast",
+                    observed_at=[times[int(arr.dominant_observation[k])] for k in keep],
+                    coverage=[float(arr.energy_coverage[k]) for k in keep],
+                )  # fmt: skip
+            )
+    return out
+
+
+def select_inputs(found: list[OffshoreBatch]) -> list[OffshoreBatch]:
+    """One input per time: observed > arrival-forecast > model-forecast (then the first source)."""
+    best: dict[datetime, tuple[int, int, int]] = {}
+    for b, batch in enumerate(found):
+        for j, t in enumerate(batch.times):
+            cand = (PRIORITY[batch.kind], b, j)
+            if t not in best or cand < best[t]:
+                best[t] = cand
+    picks: dict[int, list[int]] = {}
+    for _, b, j in sorted(best.values(), key=lambda c: (c[1], c[2])):
+        picks.setdefault(b, []).append(j)
+    return [found[b].subset(js) for b, js in sorted(picks.items())]
+
+
+__all__ = [
+    "Candidate", "WaterLevel", "aware", "batches", "candidates", "check_options", "efth_of", "floor_hour",
+    "one_grid", "policy_of", "records", "select_inputs", "spot_points", "water_key", "water_level_at",
+]  # fmt: skip

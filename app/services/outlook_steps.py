@@ -1,0 +1,216 @@
+"""Outlook steps from the arrays of `models.surf`: the values shown at each time, rounded, validated once.
+
+Per step: the height classes and breaking details at the point where the sets breaker is largest,
+the hazard level on that height (`models.hazard.hazard_level`, the offshore peak period and wave
+power beside it), the peel (`models.surf_peel`), the offshore summary and swell trains, and the
+per-point details. Whole arrays are rounded at a time (`app.services.outlook_numbers`) into plain
+dicts, and the list is validated once by pydantic's compiled validator (about half the cost of
+building each model one by one).
+"""
+
+from __future__ import annotations
+
+import gc
+import math
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
+from typing import Any
+
+import numpy as np
+from pydantic import TypeAdapter
+
+from app.cautions import HAZARD as HAZARD_CAUTIONS
+from app.schemas.outlooks import Step
+from app.services.outlook_numbers import deg, degs, grid, num, nums
+from models.constants import FOOT
+from models.hazard import HazardPolicy, hazard_level
+from models.offshore import OffshoreBatch
+from models.peel import PeelResult
+from models.surf import MIN_HEIGHT_M, PointSetup, SpotArrays
+from models.surf_peel import StepPeel, peel_one, step_peel
+
+CAUTIONS = HAZARD_CAUTIONS  # one wording everywhere (app.cautions)
+NO_PEEL: dict[str, Any] = dict(direction=None, angle_deg=None, first_point=None)  # nothing breaks
+
+_STEPS = TypeAdapter(list[Step])
+
+
+def cautions_for(policy: HazardPolicy) -> list[str]:
+    """The cautions shown with an outlook (plus a note when the policy is shoalcast's default)."""
+    out = list(CAUTIONS)
+    if policy.is_default:
+        out.append(
+            "Hazard levels use shoalcast's labelled default policy, not an agency's; it is calibrated for no place."
+        )
+    return out
+
+
+def peel_fields(r: PeelResult, first: str, largest: str | None, method: str) -> dict[str, Any]:
+    """A `models.peel` result as the step's peel fields (a closeout has no meaningful rate)."""
+    return dict(
+        direction=r.direction, sweep=r.sweep, angle_deg=num(r.angle_deg, 1.0), first_point=first,
+        largest_point=largest, peel_rate_m_s=num(r.peel_rate_m_s) if r.direction != "closeout" else None,
+        method=method,
+    )  # fmt: skip
+
+
+def step_peel_fields(points: Sequence[PointSetup], sp: StepPeel | None) -> dict[str, Any]:
+    """`models.surf_peel.step_peel`'s answer as the step's peel fields."""
+    if sp is None:
+        return dict(NO_PEEL)
+    largest = points[sp.largest_point].name if sp.largest_point is not None else None
+    return peel_fields(sp.result, points[sp.first_point].name, largest, sp.method)
+
+
+def offshore_parts(batch: OffshoreBatch, units: str) -> tuple[Any, ...]:
+    """The offshore values of each step and its trains, rounded once per batch (shared by its spots)."""
+    key = f"offshore-{units}"
+    if key not in batch.memo:
+        swells = [
+            [
+                {
+                    "height_m": num(tr.hm0_m) or 0.0, "period_s": num(tr.tp_s) or 0.0,
+                    "direction_deg": deg(tr.peak_direction_deg) or 0.0, "spread_deg": num(tr.spread_deg, 1.0),
+                    "energy_fraction": num(tr.energy_fraction, 0.01),
+                    **({"height_ft": num(tr.hm0_m / FOOT, 0.5)} if units == "imperial" else {}),
+                }
+                for tr in trains
+            ]
+            for trains in batch.trains
+        ]  # fmt: skip
+        batch.memo[key] = (nums(batch.hm0), nums(batch.tp), degs(batch.peak_dir), nums(batch.power_kw_m), swells)
+    return batch.memo[key]
+
+
+@contextmanager
+def no_gc() -> Iterator[None]:
+    """Pause the cyclic garbage collector while building many small acyclic objects (dicts, lists,
+    models): its passes cost more than the building (measured: about half of the step time);
+    reference counting still frees everything. Restores the previous state."""
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
+
+
+def build_steps(
+    batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str
+) -> list[Step]:
+    """The outlook steps of one batch for one spot (see the module docstring)."""
+    with no_gc():
+        return _STEPS.validate_python(step_dicts(batch, points, arr, policy, units))
+
+
+def step_dicts(
+    batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str
+) -> list[dict[str, Any]]:
+    """The steps of `build_steps` as plain dicts of rounded values (not yet validated)."""
+    nt = len(batch.times)
+    P = len(points)
+    K = batch.stack.shape[1] - 1  # trains per step: at most K
+    # hazard on the sets height where it is largest (0 where nothing breaks)
+    sets = arr.hb[:, :, 1]
+    has = np.isfinite(sets)
+    any_has = has.any(axis=0)  # (T,)
+    set_max = np.maximum(np.where(any_has, np.max(np.where(has, sets, -np.inf), axis=0), 0.0), 0.0)
+    levels = hazard_level(
+        policy,
+        set_max,
+        period_s=np.nan_to_num(batch.tp, nan=0.0),
+        power_kw_m=np.nan_to_num(batch.power_kw_m, nan=0.0),
+    )
+    ip = np.where(any_has, np.argmax(np.where(has, sets, -np.inf), axis=0), 0)  # (T,) point of the largest sets
+    tt = np.arange(nt)
+    heights = np.where(any_has[:, None], arr.hb[ip, tt, :3], np.nan)  # (T, 3)
+    hrows = grid(heights / FOOT, 0.5) if units == "imperial" else grid(heights, 0.1)
+    period = nums(arr.near_tp[ip, tt, 0])
+    ndir = degs(arr.near_dir[ip, tt, 0])
+    bdepth = nums(arr.db[ip, tt, 1])
+    xi = nums(arr.iribarren[ip, tt, 1], 0.01)
+    btype = arr.breaker_type[ip, tt, 1].tolist()
+    off_h, off_tp, off_dir, off_pw, offshore_swells = offshore_parts(batch, units)
+    labels = {lv: policy.label(lv) for lv in set(levels.tolist())}
+    # per point details (T, P) and per train values at the step's point (T, K)
+    det = None
+    if P:
+        det = (
+            grid(arr.near_hs[:, :, 0].T), grid(arr.near_tp[:, :, 0].T), grid(arr.near_dir[:, :, 0].T, as_deg=True),
+            grid(arr.hb[:, :, 1].T), grid(arr.db[:, :, 1].T), grid(arr.angle_b[:, :, 1].T, 1.0),
+            grid(arr.kg[:, :, 1].T), grid(arr.iribarren[:, :, 1].T, 0.01), arr.breaker_type[:, :, 1].T.tolist(),
+        )  # fmt: skip
+    if K:
+        hb_k = arr.hb[ip, tt, 3 : 3 + K]
+        near_k = arr.near_hs[ip, tt, 1 : 1 + K]
+        tr_hb = grid(hb_k)
+        tr_near = grid(np.where(near_k >= MIN_HEIGHT_M, near_k, np.nan))
+        tr_ndir = grid(arr.near_dir[ip, tt, 1 : 1 + K], as_deg=True)
+        if units == "imperial":
+            tr_hb_ft = grid(hb_k / FOOT, 0.5)
+    names = [p.name for p in points]
+    if P == 1:
+        one_hb, one_sets = arr.hb[0, :, 0].tolist(), arr.hb[0, :, 1].tolist()
+        one_db, one_ang = arr.db[0, :, 0].tolist(), arr.angle_b[0, :, 0].tolist()
+    steps = []
+    for t in range(nt):
+        hv = hrows[t]
+        hc = dict(typical=hv[0], sets=hv[1], largest=hv[2])
+        swells = [
+            dict(off, breaker_height_m=tr_hb[t][k], nearshore_height_m=tr_near[t][k],
+                 nearshore_direction_deg=tr_ndir[t][k],
+                 **({"breaker_height_ft": tr_hb_ft[t][k]} if units == "imperial" else {}))
+            for k, off in enumerate(offshore_swells[t])
+        ]  # fmt: skip
+        details = []
+        if det is not None:
+            d0, d1, d2, d3, d4, d5, d6, d7, d8 = (c[t] for c in det)
+            details = [
+                dict(
+                    name=names[i], nearshore_height_m=d0[i], nearshore_period_s=d1[i], nearshore_direction_deg=d2[i],
+                    breaker_height_m=d3[i], breaking_depth_m=d4[i], breaking_angle_deg=d5[i],
+                    komar_gaudiano_height_m=d6[i], iribarren=d7[i], breaker_type=d8[i] or None,
+                )  # fmt: skip
+                for i in range(P)
+            ]
+        if P == 1:  # the common single-point spot: straight from the per-step lists
+            if not math.isfinite(one_hb[t]):
+                peel = dict(NO_PEEL)
+            else:
+                big = names[0] if math.isfinite(one_sets[t]) else None
+                peel = peel_fields(peel_one(points[0], one_ang[t], one_db[t]), names[0], big, "breaking-angle")
+        else:
+            sp = step_peel(points, arr, t, offshore_tp=float(batch.tp[t]), offshore_dir=float(batch.peak_dir[t]))
+            peel = step_peel_fields(points, sp)
+        lv = int(levels[t])
+        ok = bool(any_has[t])
+        steps.append(
+            dict(
+                time=batch.times[t],
+                source=batch.source,
+                input=batch.kind,
+                issued=batch.issued,
+                observed_at=batch.observed_at[t] if batch.observed_at else None,
+                arrival_coverage=num(batch.coverage[t], 0.01) if batch.coverage else None,
+                breaker_height_m=hc if units == "metric" else None,
+                breaker_height_ft=hc if units == "imperial" else None,
+                period_s=period[t],
+                nearshore_direction_deg=ndir[t],
+                breaker_type=(btype[t] or None) if ok else None,
+                breaking_depth_m=bdepth[t],
+                iribarren=xi[t],
+                largest_point=names[ip[t]] if ok else None,
+                peel=peel,
+                hazard=dict(level=lv, label=labels[lv], policy=policy.name, policy_is_default=policy.is_default),
+                offshore=dict(
+                    hm0_m=off_h[t] or 0.0, peak_period_s=off_tp[t], direction_deg=off_dir[t], wave_power_kw_m=off_pw[t]
+                ),
+                swells=swells,
+                points=details,
+            )  # fmt: skip
+        )
+    return steps
+
+
+__all__ = ["CAUTIONS", "build_steps", "cautions_for", "offshore_parts", "peel_fields", "step_dicts", "step_peel_fields"]

@@ -1,0 +1,90 @@
+"""app.services.outlook_steps: the steps shown from the breaker arrays (the step-building piece).
+
+Outside values: 1 ft = 0.3048 m exactly (international yard and pound agreement, 1959); a
+closeout has no meaningful peel rate (common practice). Safety: every outlook carries the
+project's cautions (guidance only; conditions change; lifeguards, official warnings, local rules).
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import json
+import sys
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from app.schemas.outlooks import Step
+from app.services import outlook_steps as steps_mod
+from models.hazard import CAUTION, DEFAULT_POLICY
+from models.offshore import prepare_offshore
+from models.spectra import cos2s, jonswap
+from models.surf import PointSetup, compute_spots
+
+_spec = importlib.util.spec_from_file_location(
+    "_surf_tables", Path(__file__).parents[2] / "models" / "_surf_tables.py"
+)
+tb = importlib.util.module_from_spec(_spec)
+sys.modules.setdefault("_surf_tables", tb)
+_spec.loader.exec_module(tb)
+
+T0 = datetime(2031, 1, 1, tzinfo=UTC)
+
+
+def _setup(hs=(0.6, 1.5, 3.0), n_points: int = 2):  # type: ignore[no-untyped-def]
+    e = [jonswap(tb.FREQ, hs=h, tp=12.0)[:, None] * cos2s(tb.DIRS, mean_dir_deg=280.0, s=40.0)[None, :] for h in hs]
+    b = prepare_offshore([T0 + timedelta(hours=k) for k in range(len(hs))], tb.FREQ, tb.DIRS, np.stack(e),
+                         source="s", kind="model-forecast")  # fmt: skip
+    pts = [PointSetup(f"p{i}", 0.0, 300.0 * i, tb.table(k=1.0 - 0.2 * i), 2.0, 0.02, 270.0) for i in range(n_points)]
+    return b, pts, compute_spots(b, [pts])[0]
+
+
+def test_build_steps_is_the_validated_step_dicts() -> None:
+    b, pts, arr = _setup()
+    raw = steps_mod.step_dicts(b, pts, arr, DEFAULT_POLICY, "metric")
+    built = steps_mod.build_steps(b, pts, arr, DEFAULT_POLICY, "metric")
+    assert [s.model_dump() for s in built] == [Step.model_validate(d).model_dump() for d in raw]
+    json.dumps([s.model_dump(mode="json") for s in built], allow_nan=False)
+
+
+def test_the_step_shows_the_point_with_the_largest_sets_and_its_hazard() -> None:
+    b, pts, arr = _setup()
+    built = steps_mod.build_steps(b, pts, arr, DEFAULT_POLICY, "metric")
+    for t, s in enumerate(built):
+        i = int(np.nanargmax(arr.hb[:, t, 1]))
+        assert s.largest_point == pts[i].name == "p0"  # K = 1 beats K = 0.8
+        assert s.breaker_height_m.sets == pytest.approx(round(arr.hb[i, t, 1], 1))
+        level = sum(s.breaker_height_m.sets >= lv for lv in (1.0, 2.0, 3.5))  # the default policy's thresholds
+        if all(abs(s.breaker_height_m.sets - lv) > 0.05 for lv in (1.0, 2.0, 3.5)):
+            assert s.hazard.level == level
+        assert [p.name for p in s.points] == ["p0", "p1"]
+        assert s.peel.method == "break-times"
+
+
+def test_imperial_heights_are_the_metric_ones_in_feet() -> None:
+    b, pts, arr = _setup(n_points=1)
+    metric = steps_mod.build_steps(b, pts, arr, DEFAULT_POLICY, "metric")
+    feet = steps_mod.build_steps(b, pts, arr, DEFAULT_POLICY, "imperial")
+    for m, f, t in zip(metric, feet, range(3), strict=True):
+        assert f.breaker_height_m is None and m.breaker_height_ft is None
+        assert f.breaker_height_ft.typical == pytest.approx(round(arr.hb[0, t, 0] / 0.3048 * 2) / 2)
+        assert f.peel == m.peel and f.hazard == m.hazard
+    assert "offshore-imperial" in b.memo and "offshore-metric" in b.memo  # offshore parts rounded once per units
+
+
+def test_peel_fields_give_a_closeout_no_rate() -> None:
+    from models.peel import peel_from_breaking_angle
+
+    closeout = peel_from_breaking_angle(wave_from_deg=272.0, contour_normal_from_deg=270.0, crest_speed_m_s=4.0)
+    peeling = peel_from_breaking_angle(wave_from_deg=310.0, contour_normal_from_deg=270.0, crest_speed_m_s=4.0)
+    assert steps_mod.peel_fields(closeout, "a", None, "breaking-angle")["peel_rate_m_s"] is None
+    assert steps_mod.peel_fields(peeling, "a", "a", "breaking-angle")["peel_rate_m_s"] > 0
+    assert steps_mod.step_peel_fields([], None) == {"direction": None, "angle_deg": None, "first_point": None}
+
+
+def test_cautions_are_always_there_and_the_default_policy_says_so() -> None:
+    out = steps_mod.cautions_for(DEFAULT_POLICY)
+    assert CAUTION in out and any("lifeguards" in c for c in out) and any("Guidance only" in c for c in out)
+    assert any("default policy" in c for c in out)
