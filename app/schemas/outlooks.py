@@ -100,6 +100,37 @@ class PointDetail(_Model):
     )
     iribarren: float | None
     breaker_type: str | None
+    water_depth_m: float | None = Field(default=None, description="bed depth at the break point + water level")
+    depth_state: Literal["ok", "too-shallow", "dry"] | None = Field(
+        default=None, description="'too-shallow' under 0.5 m of water, 'dry' at or above the water line"
+    )
+
+
+class Tide(_Model):
+    """The tide at a step (docs/tide-wind.md §2): trend and the next high and low waters."""
+
+    trend: Literal["rising", "falling"]
+    next_high: datetime | None = Field(default=None, description="next predicted high water (null without a tide profile)")
+    next_high_m: float | None = None
+    next_low: datetime | None = Field(default=None, description="next predicted low water")
+    next_low_m: float | None = None
+    predicted_m: float | None = Field(default=None, description="predicted level above the bathymetry datum")
+
+    @field_serializer("next_high", "next_low")
+    def _times(self, value: datetime | None) -> str | None:
+        return _z(value)
+
+
+class Wind(_Model):
+    """Wind at a step: speed, FROM direction, and its direction relative to the break's facing."""
+
+    speed_m_s: float
+    direction_deg: float = Field(description="nautical FROM direction [deg]")
+    relative: Literal["offshore", "cross", "onshore"] = Field(
+        description="from the angle between the wind's FROM direction and the break's facing: within 45° onshore, "
+        "beyond 135° offshore, else cross"
+    )
+    input: Literal["observed", "model-forecast"]
 
 
 class Offshore(_Model):
@@ -135,6 +166,18 @@ class Step(_Model):
     offshore: Offshore
     swells: list[Swell]
     points: list[PointDetail] = Field(default_factory=list)
+    water_level_m: float | None = Field(default=None, description="water level above the bathymetry datum")
+    water_level_source: Literal["observed", "predicted", "mean-level", "given"] | None = Field(
+        default=None, description="observed overrides the tide prediction; mean-level: no tide profile or observation"
+    )
+    water_level_residual_m: float | None = Field(
+        default=None, description="observed − predicted level, where both are known"
+    )
+    tide: Tide | None = Field(default=None, description="null when neither a tide profile nor observed levels say the trend")
+    wind: Wind | None = Field(default=None, description="null without a wind source for this step")
+    shallow_points: list[str] = Field(
+        default_factory=list, description="break points that are too shallow or dry at this water level"
+    )
 
     @field_serializer("time", "issued", "observed_at")
     def _times(self, value: datetime | None) -> str | None:
@@ -156,7 +199,9 @@ class OutlookOptions(_Model):
     start: datetime | None = Field(description="null = from the current hour")
     units: Units
     agency_id: str | None
-    water_level_m: float = 0.0
+    water_level_m: float | None = Field(
+        default=None, description="a water level given for every step; null = from the tide profile and sources"
+    )
 
     @field_serializer("start")
     def _start(self, value: datetime | None) -> str | None:
@@ -228,5 +273,7 @@ __all__ = [
     "SpotHazard",
     "Step",
     "Swell",
+    "Tide",
     "Units",
+    "Wind",
 ]

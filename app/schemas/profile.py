@@ -66,6 +66,39 @@ class ModelSpec(_Strict):
         return self
 
 
+class TideConstituentSpec(_Strict):
+    """One harmonic constituent as a tide table publishes it (Greenwich phase lag, UTC)."""
+
+    name: str = Field(min_length=1, max_length=8)
+    amplitude_m: float = Field(ge=0, le=20)
+    phase_deg: float = Field(ge=-360, le=720, description="Greenwich phase lag g (UTC) [deg]")
+
+    @field_validator("name")
+    @classmethod
+    def _known(cls, value: str) -> str:
+        from models.tide import CONSTITUENTS
+
+        key = value.strip().upper()
+        if key not in CONSTITUENTS:
+            raise ValueError(f"unknown tide constituent {value!r} (known: {', '.join(CONSTITUENTS)})")
+        return key
+
+
+class TideSpec(_Strict):
+    """The spot's tide: harmonic constituents about a mean level (docs/tide-wind.md §1)."""
+
+    mean_level_m: float = Field(default=0.0, ge=-50, le=50, description="mean sea level above the bathymetry datum")
+    constituents: list[TideConstituentSpec] = Field(default_factory=list, max_length=40)
+
+    @model_validator(mode="after")
+    def _unique(self) -> TideSpec:
+        names = [c.name for c in self.constituents]
+        dupes = sorted({n for n in names if names.count(n) > 1})
+        if dupes:
+            raise ValueError(f"tide constituents must be unique, repeated: {', '.join(dupes)}")
+        return self
+
+
 class SpotProfile(_Strict):
     id: str = Field(pattern=SLUG, description="Slug: lower-case letters, digits and dashes.")
     name: str = Field(min_length=1, max_length=200)
@@ -77,6 +110,7 @@ class SpotProfile(_Strict):
     bathymetry: BathymetrySpec
     break_points: list[BreakPointSpec] = Field(min_length=1, max_length=20)
     model: ModelSpec = Field(default_factory=ModelSpec)
+    tide: TideSpec | None = None
 
     @field_validator("timezone")
     @classmethod
@@ -127,5 +161,7 @@ __all__ = [
     "Origin",
     "SLUG",
     "SpotProfile",
+    "TideConstituentSpec",
+    "TideSpec",
     "describe_validation_error",
 ]

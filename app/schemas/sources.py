@@ -37,6 +37,10 @@ class SourceConfig(BaseModel):
     urls: list[str] = Field(default_factory=list, max_length=20)
     paths: list[str] = Field(default_factory=list, max_length=20)  # relative to the TOML file
     poll_minutes: float = Field(default=30.0, ge=0.5, le=24 * 60)
+    water_level_datum_m: float = Field(
+        default=0.0, ge=-50, le=50,
+        description="height of the zero of this source's water levels above the bathymetry datum of the spots it feeds",
+    )
 
     @field_validator("format", mode="before")
     @classmethod

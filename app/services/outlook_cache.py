@@ -22,6 +22,7 @@ from app.db.tables import OutlookCache, Source, utcnow
 from app.errors import BadInput, Conflict, NotFound
 from app.schemas.outlooks import OutlookBody, OutlookOptions
 from app.services import outlook_inputs as inputs
+from app.services.conditions import condition_key
 from app.services.outlook_compute import OUTLOOK_VERSION, compute_outlook
 from app.services.outlook_inputs import WaterLevel
 
@@ -42,7 +43,7 @@ def outlook_key(
     start: datetime | None = None,
     units: str = "metric",
     agency_id: str | None = None,
-    water_level_m: WaterLevel = 0.0,
+    water_level_m: WaterLevel | None = None,
 ) -> str:
     """Hash of exactly an outlook's inputs: spot profile, tables (input hash + engine version),
     the observations it may use (id + content hash), the policy, the options and OUTLOOK_VERSION."""
@@ -69,6 +70,7 @@ def outlook_key(
         "observations": [[c.id, c.sha] for c in inputs.candidates(session, spot, t0, end)],
         "policy": inputs.policy_of(session, agency_id, spot.id).to_mapping(),
         "options": [hours, t0.isoformat(), units, agency_id, inputs.water_key(water_level_m)],
+        "conditions": condition_key(session, spot, t0, end),
     }
     return hashlib.sha256(json.dumps(doc, sort_keys=True, default=str).encode()).hexdigest()
 
@@ -96,7 +98,7 @@ def get_or_compute(session: Session, spot_id: str, **options: Any) -> tuple[Outl
     under the single-flight lock and stored (committed before the lock is released)."""
     key = outlook_key(session, spot_id, **options)
     v = variant(options.get("hours", 72), options.get("start"), options.get("units", "metric"),
-                options.get("agency_id"), inputs.water_key(options.get("water_level_m", 0.0)))  # fmt: skip
+                options.get("agency_id"), inputs.water_key(options.get("water_level_m")))  # fmt: skip
     row = cached_row(session, spot_id, v)
     if row is not None and row.input_hash == key:
         if row.stale:  # marked by ingest, but nothing it uses changed
@@ -132,7 +134,7 @@ def get_outlook(
     start: datetime | None = None,
     units: str = "metric",
     agency_id: str | None = None,
-    water_level_m: WaterLevel = 0.0,
+    water_level_m: WaterLevel | None = None,
 ) -> OutlookBody:
     """The cached outlook when its inputs are unchanged, else computed and stored (see `outlook_key`)."""
     return get_or_compute(session, spot_id, hours=hours, start=start, units=units, agency_id=agency_id,

@@ -1,6 +1,8 @@
 """One spot's outlook computed from the database (no cache): inputs -> arrays -> steps.
 
 `app.services.outlook_inputs` gathers the break points and the offshore inputs,
+`app.services.conditions` the water level and wind per step (`SpotConditions`, whose
+`.conditions` is the `models.conditions.StepConditions` the breaking computation receives),
 `models.surf.compute_spots` turns each input into breaker arrays, `app.services.outlook_steps`
 into steps. The cached entry point is `app.services.outlook_cache.get_outlook`.
 """
@@ -13,12 +15,13 @@ from sqlalchemy.orm import Session
 
 from app.db.tables import utcnow
 from app.schemas.outlooks import OutlookBody, OutlookOptions, Step
+from app.services import conditions as cond
 from app.services import outlook_inputs as inputs
 from app.services.outlook_inputs import WaterLevel
 from app.services.outlook_steps import build_steps, cautions_for
 from models.surf import compute_spots
 
-OUTLOOK_VERSION = "outlook-2"  # part of every cache key: bump when the computation changes
+OUTLOOK_VERSION = "outlook-3"  # part of every cache key: bump when the computation changes
 
 
 def compute_outlook(
@@ -29,9 +32,12 @@ def compute_outlook(
     start: datetime | None = None,
     units: str = "metric",
     agency_id: str | None = None,
-    water_level_m: WaterLevel = 0.0,
+    water_level_m: WaterLevel | None = None,
 ) -> OutlookBody:
-    """Compute a spot's outlook from [start, start + hours] (start: the current hour when None)."""
+    """Compute a spot's outlook from [start, start + hours] (start: the current hour when None).
+
+    `water_level_m`: a level (or (time, level) pairs) for every step instead of the spot's tide
+    profile and observed levels (None: those)."""
     from app.services.spots import get_spot
 
     inputs.check_options(hours, units)
@@ -45,17 +51,19 @@ def compute_outlook(
     if not spot.sources:
         notes.append("the spot has no sources: no steps")
     steps: list[Step] = []
+    ci = cond.load_condition_inputs(session, spot, t0, end)
     for batch in inputs.select_inputs(found):
-        wl = inputs.water_level_at(water_level_m, batch.times)
-        arr = compute_spots(batch, [points], water_level_m=wl)[0]
-        steps.extend(build_steps(batch, points, arr, policy, units))
+        given = None if water_level_m is None else inputs.water_level_at(water_level_m, batch.times)
+        sc = cond.spot_conditions(ci, batch.times, given=given)
+        arr = compute_spots(batch, [points], water_level_m=sc.conditions.water_level_m)[0]
+        steps.extend(build_steps(batch, points, arr, policy, units, sc))
     steps.sort(key=lambda s: s.time)
     return OutlookBody(
         spot_id=spot.id, name=spot.name, units=units, cautions=cautions_for(policy), computed_at=utcnow(), start=t0,
         hours=hours, policy=policy.name, policy_is_default=policy.is_default, break_points=[p.name for p in points],
         notes=notes, steps=steps,
         options=OutlookOptions(hours=hours, start=start, units=units, agency_id=agency_id,
-                               water_level_m=float(water_level_m) if isinstance(water_level_m, int | float) else 0.0),
+                               water_level_m=float(water_level_m) if isinstance(water_level_m, int | float) else None),
     )  # fmt: skip
 
 

@@ -84,8 +84,10 @@ def water_level_at(water_level: WaterLevel, times: Sequence[datetime]) -> NDArra
     return out
 
 
-def water_key(water_level: WaterLevel) -> Any:
-    """The water level as JSON (part of cache keys)."""
+def water_key(water_level: WaterLevel | None) -> Any:
+    """The water level as JSON (part of cache keys); None = from the tide profile and sources."""
+    if water_level is None:
+        return None
     if isinstance(water_level, int | float):
         return float(water_level)
     return [[aware(t, "water_level time").isoformat(), float(v)] for t, v in water_level]

@@ -3,7 +3,8 @@
 Per step: the height classes and breaking details at the point where the sets breaker is largest,
 the hazard level on that height (`models.hazard.hazard_level`, the offshore peak period and wave
 power beside it), the peel (`models.surf_peel`), the offshore summary and swell trains, and the
-per-point details. Whole arrays are rounded at a time (`app.services.outlook_numbers`) into plain
+per-point details; the water level, tide and wind (`app.services.conditions`), and whether each
+break point is too shallow or dry at that level (`models.conditions.depth_state`). Whole arrays are rounded at a time (`app.services.outlook_numbers`) into plain
 dicts, and the list is validated once by pydantic's compiled validator (about half the cost of
 building each model one by one).
 """
@@ -21,7 +22,9 @@ from pydantic import TypeAdapter
 
 from app.cautions import HAZARD as HAZARD_CAUTIONS
 from app.schemas.outlooks import Step
+from app.services.conditions import SpotConditions
 from app.services.outlook_numbers import deg, degs, grid, num, nums
+from models.conditions import depth_state
 from models.constants import FOOT
 from models.hazard import HazardPolicy, hazard_level
 from models.offshore import OffshoreBatch
@@ -97,15 +100,45 @@ def no_gc() -> Iterator[None]:
 
 
 def build_steps(
-    batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str
+    batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str,
+    conditions: SpotConditions | None = None,
 ) -> list[Step]:
     """The outlook steps of one batch for one spot (see the module docstring)."""
     with no_gc():
-        return _STEPS.validate_python(step_dicts(batch, points, arr, policy, units))
+        return _STEPS.validate_python(step_dicts(batch, points, arr, policy, units, conditions))
+
+
+def condition_fields(sc: SpotConditions, points: Sequence[PointSetup]) -> tuple[list[dict[str, Any]], Any]:
+    """Per step: the water level, tide, wind and shallow points; and per (step, point) the water
+    depth and its state."""
+    c = sc.conditions
+    level, pred, resid = nums(c.water_level_m, 0.01), nums(sc.predicted_m, 0.01), nums(sc.residual_m, 0.01)
+    speed, wdir = nums(c.wind_speed_m_s), degs(c.wind_from_deg)
+    bed = np.array([p.depth_m for p in points])
+    depth, state = depth_state(bed[None, :], c.water_level_m[:, None])  # (T, P)
+    depth_rows, state_rows = grid(depth, 0.01), state.tolist()
+    names = [p.name for p in points]
+    out = []
+    for t in range(len(sc.times)):
+        hi, lo = sc.next_high[t], sc.next_low[t]
+        tide = None
+        if sc.trend[t] is not None:
+            tide = dict(trend=sc.trend[t], next_high=hi[0] if hi else None, next_high_m=num(hi[1], 0.01) if hi else None,
+                        next_low=lo[0] if lo else None, next_low_m=num(lo[1], 0.01) if lo else None,
+                        predicted_m=pred[t])  # fmt: skip
+        wind = None
+        if sc.wind_input[t] is not None and speed[t] is not None and wdir[t] is not None:
+            wind = dict(speed_m_s=speed[t], direction_deg=wdir[t], relative=sc.wind_relative[t], input=sc.wind_input[t])
+        out.append(dict(
+            water_level_m=level[t], water_level_source=sc.level_source[t], water_level_residual_m=resid[t], tide=tide,
+            wind=wind, shallow_points=[names[i] for i, st in enumerate(state_rows[t]) if st != "ok"],
+        ))  # fmt: skip
+    return out, (depth_rows, state_rows)
 
 
 def step_dicts(
-    batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str
+    batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, policy: HazardPolicy, units: str,
+    conditions: SpotConditions | None = None,
 ) -> list[dict[str, Any]]:
     """The steps of `build_steps` as plain dicts of rounded values (not yet validated)."""
     nt = len(batch.times)
@@ -150,6 +183,7 @@ def step_dicts(
         if units == "imperial":
             tr_hb_ft = grid(hb_k / FOOT, 0.5)
     names = [p.name for p in points]
+    cf, (depth_rows, state_rows) = condition_fields(conditions, points) if conditions is not None else (None, (None, None))
     if P == 1:
         one_hb, one_sets = arr.hb[0, :, 0].tolist(), arr.hb[0, :, 1].tolist()
         one_db, one_ang = arr.db[0, :, 0].tolist(), arr.angle_b[0, :, 0].tolist()
@@ -171,6 +205,7 @@ def step_dicts(
                     name=names[i], nearshore_height_m=d0[i], nearshore_period_s=d1[i], nearshore_direction_deg=d2[i],
                     breaker_height_m=d3[i], breaking_depth_m=d4[i], breaking_angle_deg=d5[i],
                     komar_gaudiano_height_m=d6[i], iribarren=d7[i], breaker_type=d8[i] or None,
+                    **({} if depth_rows is None else dict(water_depth_m=depth_rows[t][i], depth_state=state_rows[t][i])),
                 )  # fmt: skip
                 for i in range(P)
             ]
@@ -208,9 +243,10 @@ def step_dicts(
                 ),
                 swells=swells,
                 points=details,
+                **(cf[t] if cf is not None else {}),
             )  # fmt: skip
         )
     return steps
 
 
-__all__ = ["CAUTIONS", "build_steps", "cautions_for", "offshore_parts", "peel_fields", "step_dicts", "step_peel_fields"]
+__all__ = ["CAUTIONS", "build_steps", "cautions_for", "condition_fields", "offshore_parts", "peel_fields", "step_dicts", "step_peel_fields"]
