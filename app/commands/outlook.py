@@ -1,4 +1,5 @@
-"""`shoalcast outlook SPOT_ID`: breaker heights, period, direction, peel, breaker type and hazard per step."""
+"""`shoalcast outlook SPOT_ID`: breaker heights, period, direction, peel, breaker type, tide, wind and
+hazard per step."""
 
 from __future__ import annotations
 
@@ -8,6 +9,7 @@ from datetime import UTC, datetime
 from app.commands.common import print_json, print_table, ready_database, rfc3339
 from app.db.session import session_scope
 from app.errors import BadInput
+from app.schemas.outlooks import Step
 
 
 def parse_time(text: str) -> datetime:
@@ -23,6 +25,31 @@ def parse_time(text: str) -> datetime:
 
 def _fmt(v: float | None, unit: str = "") -> str:
     return "-" if v is None else f"{v:g}{unit}"
+
+
+COMPASS = ("N", "NE", "E", "SE", "S", "SW", "W", "NW")
+FOOT_M = 0.3048
+KNOT_M_S = 1852.0 / 3600.0
+
+
+def tide_text(s: Step, imperial: bool) -> str:
+    """Water level above the bathymetry datum, trend arrow, '*' where observed, '!' where a break
+    point is too shallow or dry."""
+    if s.water_level_m is None:
+        return "-"
+    lv = f"{s.water_level_m / FOOT_M:+.1f}ft" if imperial else f"{s.water_level_m:+.2f}m"
+    arrow = {"rising": "↑", "falling": "↓"}.get(s.tide.trend if s.tide else "", "")
+    mark = "*" if s.water_level_source == "observed" else ""
+    return f"{lv}{arrow}{mark}" + (" !" if s.shallow_points else "")
+
+
+def wind_text(s: Step, imperial: bool) -> str:
+    """Speed (m/s, or knots in imperial units), compass point it blows FROM, offshore/cross/onshore."""
+    w = s.wind
+    if w is None:
+        return "-"
+    speed = f"{w.speed_m_s / KNOT_M_S:.0f}kn" if imperial else f"{w.speed_m_s:.0f}m/s"
+    return f"{speed} {COMPASS[int((w.direction_deg + 22.5) // 45) % 8]} {w.relative}"
 
 
 def _run(args: argparse.Namespace) -> int:
@@ -45,13 +72,18 @@ def _run(args: argparse.Namespace) -> int:
         peel = "-" if s.peel.direction is None else f"{s.peel.direction} {_fmt(s.peel.angle_deg, '°')}"
         rows.append([
             rfc3339(s.time), s.input, f"{_fmt(h.typical)}/{_fmt(h.sets)}/{_fmt(h.largest)}", _fmt(s.period_s, " s"),
-            _fmt(s.nearshore_direction_deg, "°"), peel, s.breaker_type or "-", f"{s.hazard.level} {s.hazard.label}",
+            _fmt(s.nearshore_direction_deg, "°"), peel, s.breaker_type or "-", tide_text(s, u == "ft"),
+            wind_text(s, u == "ft"), f"{s.hazard.level} {s.hazard.label}",
         ])  # fmt: skip
     if rows:
         print_table(
-            ["time", "input", f"breakers {u} typ/sets/max", "period", "dir", "peel", "breaker", "hazard"],
+            ["time", "input", f"breakers {u} typ/sets/max", "period", "dir", "peel", "breaker", "tide", "wind",
+             "hazard"],
             rows,
-        )
+        )  # fmt: skip
+        shallow = sorted({p for s in body.steps for p in s.shallow_points})
+        print("tide: level above the bathymetry datum, ↑ rising ↓ falling, * observed"
+              + (f"; ! too shallow or dry at some steps: {', '.join(shallow)}" if shallow else ""))
     else:
         print("no steps: no offshore spectra cover this window")
     for note in body.notes:

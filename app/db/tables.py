@@ -143,10 +143,11 @@ class SourceHealth(Base):
 
 
 class Observation(Base):
-    """One offshore spectrum (measured, or a model forecast step when issue_time is set)."""
+    """One offshore spectrum or one met row (water level, wind, ...): measured, or a model forecast
+    step when issue_time is set. A file may give both kinds for the same time."""
 
     __tablename__ = "observations"
-    __table_args__ = (sa.UniqueConstraint("source_id", "time", "issue_key"),)
+    __table_args__ = (sa.UniqueConstraint("source_id", "kind", "time", "issue_key"),)
 
     id: Mapped[int] = mapped_column(primary_key=True)
     source_id: Mapped[str] = mapped_column(sa.ForeignKey("sources.id", ondelete="CASCADE"), index=True)

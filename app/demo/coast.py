@@ -43,6 +43,7 @@ from models.geodesy import to_local, to_lonlat
 __all__ = [
     "COAST_NAME",
     "DEMO_SOURCE_IDS",
+    "DEMO_TIDE",
     "SPOTS",
     "DemoSpot",
     "LocalGrid",
@@ -52,7 +53,10 @@ __all__ = [
 ]
 
 COAST_NAME = "Skellmarrow coast (fictional)"
-DEMO_SOURCE_IDS = ("demo-offshore-1", "demo-model-1")
+DEMO_SOURCE_IDS = ("demo-offshore-1", "demo-model-1", "demo-shore-1", "demo-wind-1")
+# The coast's invented tide table (mixed, mainly semi-diurnal; amplitudes [m], Greenwich phase lags
+# [deg], UTC) about mean sea level, the demo grids' datum (docs/tide-wind.md §1).
+DEMO_TIDE = (("M2", 0.92, 214.0), ("S2", 0.31, 247.0), ("N2", 0.19, 196.0), ("K1", 0.24, 112.0), ("O1", 0.16, 97.0))
 
 SEED = 20261201  # fixed: the demo coast is the same on every machine
 FINE_M = 10.0  # resolution of the signed-distance field behind every shape [m]
@@ -63,6 +67,7 @@ LAND_MIN_M = -25.0  # highest land [m above datum], clipped so grids stay small 
 POINT_SHORE_SLOPE = 1.0 / 100.0  # a long, gently shoaling point: the crest wraps along its curved contours
 BEACH_SLOPE = 1.0 / 55.0  # the exposed beach: one plain slope out to ~95 m at the grid's west edge
 BREAK_DEPTH_M = 2.5  # break points sit on this contour
+BAR_DEPTH_M = 0.55  # ... but the ridge's bar section sits this shallow
 PERIOD_MIN_S, PERIOD_MAX_S, PERIOD_COUNT = 5.0, 20.0, 12  # table periods of the demo profiles
 LAUNCH_SPACING_DEG = 0.25
 
@@ -95,9 +100,9 @@ class DemoSpot:
     x_range: tuple[float, float]  # grid extent (cell centres) [m]
     y_range: tuple[float, float]
     spacing_m: float
-    # break points: (name, seaward start (x, y), landward end (x, y)); each point is placed where the
-    # line from start to end first reaches BREAK_DEPTH_M
-    break_lines: tuple[tuple[str, tuple[float, float], tuple[float, float]], ...]
+    # break points: (name, seaward start (x, y), landward end (x, y)[, depth]); each point is placed
+    # where the line from start to end first reaches BREAK_DEPTH_M (or the line's own depth)
+    break_lines: tuple[tuple, ...]
     reference_depth_m: float = 10.0
     noise_seed: int = 0  # offset of this spot's smooth noise from SEED (fixed, so renames keep the seabed)
 
@@ -142,6 +147,9 @@ SPOTS: tuple[DemoSpot, ...] = (
         y_range=(-3000.0, 3000.0),
         spacing_m=40.0,
         break_lines=(
+            # a shallow bar section south of the peak: 0.55 m below mean sea level, so it has enough
+            # water to ride only above about mid tide (docs/tide-wind.md §2)
+            ("south bar", (-1000.0, -800.0), (1500.0, -800.0), BAR_DEPTH_M),
             ("south shoulder", (-1000.0, -400.0), (1500.0, -400.0)),
             ("peak", (-1000.0, 0.0), (1500.0, 0.0)),
             ("north shoulder", (-1000.0, 400.0), (1500.0, 400.0)),
@@ -379,21 +387,23 @@ def spot_grid(spot: DemoSpot, *, spacing_m: float | None = None) -> LocalGrid:
 
 
 def break_points(spot: DemoSpot, depth_fn=None) -> list[tuple[str, float, float]]:
-    """(name, x, y) of each break point: where its line first reaches BREAK_DEPTH_M, rounded to 1 m."""
+    """(name, x, y) of each break point: where its line first reaches BREAK_DEPTH_M (or the line's
+    own depth), rounded to 1 m."""
     depth_fn = depth_fn or spot_depth_function(spot)
     out = []
-    for name, (xs, ys), (xe, ye) in spot.break_lines:
+    for name, (xs, ys), (xe, ye), *own in spot.break_lines:
+        target = float(own[0]) if own else BREAK_DEPTH_M
         t = np.linspace(0.0, 1.0, 4001)
         px, py = xs + t * (xe - xs), ys + t * (ye - ys)
         h = depth_fn(px, py)
-        if h[0] <= BREAK_DEPTH_M:
+        if h[0] <= target:
             raise RuntimeError(f"demo spot {spot.id}: break line {name!r} starts too shallow ({h[0]:.1f} m)")
-        idx = np.flatnonzero(h <= BREAK_DEPTH_M)
+        idx = np.flatnonzero(h <= target)
         if idx.size == 0:
-            raise RuntimeError(f"demo spot {spot.id}: break line {name!r} never reaches {BREAK_DEPTH_M} m")
+            raise RuntimeError(f"demo spot {spot.id}: break line {name!r} never reaches {target} m")
         i = idx[0]
         # linear interpolation between the last sample deeper and the first shallower
-        w = (h[i - 1] - BREAK_DEPTH_M) / (h[i - 1] - h[i])
+        w = (h[i - 1] - target) / (h[i - 1] - h[i])
         out.append((name, round(float(px[i - 1] + w * (px[i] - px[i - 1]))), round(float(py[i - 1] + w * (py[i] - py[i - 1])))))
     return out
 
@@ -504,6 +514,9 @@ def _profile_toml(spot: DemoSpot, points, sources) -> str:
     ]
     for name, x, y in points:
         lines += ["", "[[break_points]]", f"name = {_toml_str(name)}", f"x = {x:.1f}", f"y = {y:.1f}"]
+    cons = ", ".join(f"{{ name = {_toml_str(n)}, amplitude_m = {a:.2f}, phase_deg = {g:.1f} }}" for n, a, g in DEMO_TIDE)
+    lines += ["", "# the coast's invented tide table (Greenwich phase lags, UTC)", "[tide]", "mean_level_m = 0.0",
+              f"constituents = [{cons}]"]
     # table options sized for a quick demo build: 12 periods 5-20 s cover the demo's swells and
     # wind sea; 0.25° launch spacing keeps sheltered directions clean
     lines += ["", "[model]", f"reference_depth_m = {spot.reference_depth_m:.1f}",

@@ -18,9 +18,17 @@ builds to its peak near now+12 h and fades; a north-west swell (from ~320°, 260
 ~13 s) takes over from about now+30 h, peaking near now+42 h. So a spot sheltered from the west
 (the demo bay) is small for the first and open to the second inside the demo window.
 
+Shore conditions (docs/tide-wind.md): a sea breeze on a daily cycle in local solar time (the coast
+lies at 127.3° W: UTC − 8.5 h): a light land breeze from the east through the night and morning
+(offshore at the west-facing breaks), turning through the south about midday and blowing onshore
+from the west-north-west in the afternoon, strongest about 15:00 local, easing in the evening; and
+the water level from the coast's invented tide table (`app.demo.coast.DEMO_TIDE`) with a small surge.
+
 Products: the agency real-time text set (observations up to ``now``; density, r1, r2, α1, α2 per
 band on the 47-band buoy grid, computed from E(f, θ) by direct integration of the first-five
-Fourier coefficients) and a CF NetCDF forecast (E(f, θ) from the model cycle before ``now``).
+Fourier coefficients) and a CF NetCDF forecast (E(f, θ) from the model cycle before ``now``); a
+shore station's met text file (observed wind, TIDE in feet above mean sea level) up to ``now``; a
+CF NetCDF wind forecast (`wind_speed`, `wind_from_direction`) from the same model cycle.
 """
 
 from __future__ import annotations
@@ -43,7 +51,9 @@ __all__ = [
     "MODEL_FREQUENCIES_HZ",
     "MODEL_ID",
     "NDBC_FREQUENCIES_HZ",
+    "SHORE_ID",
     "STATION_ID",
+    "WIND_ID",
     "FeedFiles",
     "Scenario",
     "Swell",
@@ -52,6 +62,8 @@ __all__ = [
     "directional_moments",
     "efth",
     "forecast_records",
+    "sea_breeze",
+    "shore_met_text",
     "observation_records",
     "write_feed",
     "write_source_profiles",
@@ -59,6 +71,11 @@ __all__ = [
 
 STATION_ID = "demo-offshore-1"
 MODEL_ID = "demo-model-1"
+SHORE_ID = "demo-shore-1"  # shore met station: wind and water level (observed)
+WIND_ID = "demo-wind-1"  # wind forecast (CF NetCDF)
+SHORE_LATITUDE, SHORE_LONGITUDE = -41.740, -127.285  # on the coast, between the spots (nominal)
+LOCAL_SOLAR_OFFSET_H = -127.30 / 15.0  # local solar time = UTC + this (−8.49 h)
+SURGE_M = 0.08  # the observed level stands this much above the tide table (a small surge)
 STATION_LATITUDE = -41.740
 STATION_LONGITUDE = -127.800  # ~41 km west of the demo coast (nominal, open ocean)
 STATION_DEPTH_M = 2800.0
@@ -266,6 +283,74 @@ def forecast_records(scenario: Scenario, *, step_hours: int = 1) -> list[Spectru
     return out
 
 
+# ---------------------------------------------------------------- wind and water level
+
+def sea_breeze(t: datetime) -> tuple[float, float]:
+    """(speed m/s, FROM direction deg) of the demo's wind at `t`: a land breeze from the east by night,
+    veering through the south about midday to a west-north-west sea breeze in the afternoon."""
+    local_h = ((t - datetime(1970, 1, 1, tzinfo=UTC)).total_seconds() / 3600.0 + LOCAL_SOLAR_OFFSET_H) % 24.0
+    # the sea breeze's share of the day: 0 at night, 1 about 15:00 local (a smooth bump 10:00-21:00)
+    sea = math.exp(-(((local_h - 15.0) / 3.2) ** 2))
+    speed = 2.5 + 5.0 * sea
+    direction = (90.0 + 195.0 * min(1.0, sea * 1.6)) % 360.0  # E -> S -> WNW (285°) as it sets in
+    return round(speed, 1), round(direction)
+
+
+def shore_levels(times: list[datetime]) -> np.ndarray:
+    """The shore station's water level [m above mean sea level]: the tide table plus the surge."""
+    from app.demo.coast import DEMO_TIDE
+    from models.tide import Constituent, predict
+
+    return predict(times, [Constituent(*c) for c in DEMO_TIDE]) + SURGE_M
+
+
+def shore_met_text(scenario: Scenario) -> str:
+    """The shore station's standard met text file (realtime layout, newest row first): WDIR/WSPD and
+    TIDE in feet above mean sea level, the rest missing (MM)."""
+    last = _utc(scenario.now).replace(minute=0, second=0, microsecond=0)  # hourly, on the hour, up to now
+    times = [last - timedelta(hours=k) for k in range(scenario.past_hours, -1, -1)]
+    levels = shore_levels(times) / 0.3048
+    rows = ["#YY  MM DD hh mm WDIR WSPD GST  WVHT   DPD   APD MWD   PRES  ATMP  WTMP  DEWP  VIS PTDY  TIDE",
+            "#yr  mo dy hr mn degT m/s  m/s     m   sec   sec degT   hPa  degC  degC  degC  nmi  hPa    ft"]
+    for t, ft in sorted(zip(times, levels, strict=True), reverse=True):
+        speed, direction = sea_breeze(t)
+        rows.append(f"{t:%Y %m %d %H %M} {direction:4.0f} {speed:4.1f}   MM    MM    MM    MM  MM     MM    MM    MM"
+                    f"    MM   MM   MM {ft:+5.2f}")
+    return "\n".join(rows) + "\n"
+
+
+def write_wind_forecast(path: Path, scenario: Scenario) -> int:
+    """The wind forecast as CF NetCDF (NetCDF3: `wind_speed`, `wind_from_direction`, one station)."""
+    from scipy.io import netcdf_file
+
+    issued = issue_time(scenario)
+    end = _utc(scenario.now) + timedelta(hours=scenario.future_hours)
+    times = []
+    t = issued
+    while t <= end:
+        times.append(t)
+        t += timedelta(hours=1)
+    wind = [sea_breeze(t) for t in times]
+    epoch = datetime(1970, 1, 1, tzinfo=UTC)
+    with netcdf_file(str(path), "w", version=2) as f:
+        f.title = b"Skellmarrow coast wind forecast (synthetic demo data)"
+        f.station_id = WIND_ID.encode()
+        f.createDimension("time", len(times))
+        v = f.createVariable("time", "f8", ("time",))
+        v[:] = [(x - epoch).total_seconds() for x in times]
+        v.units, v.standard_name, v.calendar = b"seconds since 1970-01-01 00:00:00Z", b"time", b"standard"
+        v = f.createVariable("forecast_reference_time", "f8", ())
+        v[()] = (issued - epoch).total_seconds()
+        v.units, v.standard_name = b"seconds since 1970-01-01 00:00:00Z", b"forecast_reference_time"
+        v = f.createVariable("wind_speed", "f8", ("time",))
+        v[:] = [w[0] for w in wind]
+        v.units, v.standard_name = b"m s-1", b"wind_speed"
+        v = f.createVariable("wind_from_direction", "f8", ("time",))
+        v[:] = [w[1] for w in wind]
+        v.units, v.standard_name = b"degree", b"wind_from_direction"
+    return len(times)
+
+
 # ---------------------------------------------------------------- files
 
 @dataclass(frozen=True)
@@ -336,6 +421,14 @@ def write_feed(directory: str | os.PathLike, *, now: datetime, scenario: Scenari
             if not (forecast_path.exists() and _same_cf_content(forecast_path, tmp_path)):
                 os.chmod(tmp_path, 0o644)
                 os.replace(tmp_path, forecast_path)
+    _write_text(out / f"{SHORE_ID}.txt", shore_met_text(scenario))
+    wind_path = out / f"{WIND_ID}.nc"
+    with tempfile.TemporaryDirectory(dir=out) as tmp:
+        tmp_path = Path(tmp) / wind_path.name
+        write_wind_forecast(tmp_path, scenario)
+        if not (wind_path.exists() and wind_path.read_bytes() == tmp_path.read_bytes()):
+            os.chmod(tmp_path, 0o644)
+            os.replace(tmp_path, wind_path)
     return FeedFiles(directory=out, realtime=realtime, forecast=forecast_path, issue_time=issue_time(scenario),
                      observations=len(obs), forecast_steps=len(fc))
 
@@ -372,7 +465,30 @@ def write_source_profiles(directory: str | os.PathLike, *, base_url: str, poll_m
         f"poll_minutes = {poll_minutes:g}",
         "",
     ])
-    paths = [out / f"{STATION_ID}.toml", out / f"{MODEL_ID}.toml"]
-    _write_text(paths[0], station)
-    _write_text(paths[1], model)
+    shore = "\n".join([
+        "# Synthetic shore met station on the demo coast: wind and water level (TIDE in feet above mean sea level).",
+        f'id = "{SHORE_ID}"',
+        'name = "Skellmarrow shore station (synthetic)"',
+        'format = "met-text"',
+        f"latitude = {SHORE_LATITUDE:.3f}",
+        f"longitude = {SHORE_LONGITUDE:.3f}",
+        f'urls = ["{base}/{SHORE_ID}.txt"]',
+        f"poll_minutes = {poll_minutes:g}",
+        "water_level_datum_m = 0.0  # its TIDE zero is mean sea level, the demo grids' datum",
+        "",
+    ])
+    wind = "\n".join([
+        "# Synthetic wind forecast for the demo coast (invented).",
+        f'id = "{WIND_ID}"',
+        'name = "Skellmarrow coast wind forecast (synthetic)"',
+        'format = "cf-netcdf"',
+        f"latitude = {SHORE_LATITUDE:.3f}",
+        f"longitude = {SHORE_LONGITUDE:.3f}",
+        f'urls = ["{base}/{WIND_ID}.nc"]',
+        f"poll_minutes = {poll_minutes:g}",
+        "",
+    ])
+    paths = [out / f"{STATION_ID}.toml", out / f"{MODEL_ID}.toml", out / f"{SHORE_ID}.toml", out / f"{WIND_ID}.toml"]
+    for path, text in zip(paths, (station, model, shore, wind), strict=True):
+        _write_text(path, text)
     return paths

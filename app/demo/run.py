@@ -93,7 +93,10 @@ def _fmt(v: float | None, fmt: str = "{:.1f}") -> str:
 
 def _outlook_lines(body: Any) -> list[str]:
     """Our own compact layout: one line every PRINT_EVERY_H hours."""
-    head = f"  {'time (UTC)':<16} {'breakers m':<15} {'period':>6} {'from':>5}  {'peel':<16} {'breaker':<10} hazard"
+    from app.commands.outlook import tide_text, wind_text
+
+    head = (f"  {'time (UTC)':<16} {'breakers m':<15} {'period':>6} {'from':>5}  {'peel':<16} {'breaker':<10} "
+            f"{'tide':<9} {'wind':<17} hazard")
     sub = f"  {'':<16} {'typ / sets / max':<15}"
     lines = [head, sub]
     t0 = body.steps[0].time if body.steps else None
@@ -111,8 +114,11 @@ def _outlook_lines(body: Any) -> list[str]:
         lines.append(
             f"  {s.time.astimezone(UTC):%a %d %H:%M}     {heights:<15} {_fmt(s.period_s, '{:.0f} s'):>6} "
             f"{_fmt(s.nearshore_direction_deg, '{:.0f}°'):>5}  {peel:<16} {s.breaker_type or '-':<10} "
-            f"{s.hazard.level} {s.hazard.label}"
+            f"{tide_text(s, False):<9} {wind_text(s, False):<17} {s.hazard.level} {s.hazard.label}"
         )
+    shallow = sorted({p for s in body.steps for p in s.shallow_points})
+    if shallow:
+        lines.append(f"  too shallow or dry at some states of the tide (!): {', '.join(shallow)}")
     return lines
 
 

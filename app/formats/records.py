@@ -157,7 +157,8 @@ class SpectrumRecord:
 
 @dataclass(frozen=True)
 class MetRecord:
-    """One standard-meteorological row; None where the file says missing. Directions nautical FROM."""
+    """One standard-meteorological row (or a CF water level / wind step); None where the file says
+    missing. Directions nautical FROM."""
 
     time: datetime
     station: str = ""
@@ -176,12 +177,17 @@ class MetRecord:
     pressure_tendency_hpa: float | None = None
     tide_ft: float | None = None
     source_file: str | None = None
+    water_level_m: float | None = None  # CF sea_surface_height [m]
+    issue_time: datetime | None = None  # a model forecast's issue time (None for observations)
 
     def __post_init__(self) -> None:
         _check_time(self.time, "time")
+        _check_time(self.issue_time, "issue_time", optional=True)
 
     def content_hash(self) -> str:
-        return _content_hash(self, skip=("source_file",))
+        # fields added later take part only when set, so rows stored before them keep their hash
+        late = tuple(n for n in ("water_level_m", "issue_time") if getattr(self, n) is None)
+        return _content_hash(self, skip=("source_file", *late))
 
 
 @dataclass(frozen=True)

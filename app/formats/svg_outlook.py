@@ -5,6 +5,10 @@ Input: the `steps` of the outlook JSON (`shoalcast outlook --json`): each with `
 [{height_m, period_s, direction_deg, breaker_height_m}], `hazard` {level, label}. Drawn: typical
 (solid), sets (dashed), largest (markers over a light band from sets to largest), one thin line per
 swell train (by its position in `swells`), a hazard strip, UTC time axis, legend, caution line.
+Below the heights, on the same time axis: the water level (`water_level_m`, observed steps
+marked, steps where a break point is too shallow or dry shaded) and the wind (`wind` {speed_m_s,
+direction_deg FROM, relative}: one arrow per step pointing the way the wind blows, filled when
+offshore, outlined when cross, dashed when onshore, with its speed).
 A step with an unreadable time is skipped and counted in a note; missing heights leave gaps.
 """
 
@@ -20,7 +24,7 @@ from app.formats._svg import INK, MUTED, doc, num, ramp, text
 
 __all__ = ["WIDTH", "HEIGHT", "outlook_svg"]
 
-WIDTH, HEIGHT = 920, 500
+WIDTH, HEIGHT = 920, 650
 _FOOT = 0.3048
 _CAUTION = "Guidance only; conditions change. Follow lifeguards, official warnings and local rules."
 _L, _R, _T, _B = 70.0, 700.0, 104.0, 410.0   # plot box
@@ -33,6 +37,12 @@ _TRAINS = [("#c26a12", "7 3"), ("#7b4f9e", "2 3"), ("#5d7a1f", "9 3 2 3"), ("#8a
 # a WCAG 2.1 contrast of at least 4.5:1 (tests/app/formats/test_svg.py).
 _HAZARD = {0: "#f4efe1", 1: "#f0c96b", 2: "#d9782f", 3: "#9c2f22"}
 _HAZARD_TEXT = {0: INK, 1: INK, 2: INK, 3: "#ffffff"}
+_TT, _TB = 484.0, 552.0  # tide panel
+_WY = 584.0  # wind arrows' centre line
+_TIDE, _SHALLOW = "#2f5f8f", "#e9d3a8"
+# wind relative to the break: colour and shape both say it (filled / outlined / dashed)
+_WIND = {"offshore": ("#2e6b45", "fill"), "cross": ("#7a5a12", "outline"), "onshore": ("#9c2f22", "dashed")}
+_ARROW = "M0,-9 L4.5,0 L1.4,0 L1.4,9 L-1.4,9 L-1.4,0 L-4.5,0 Z"  # pointing up (toward north)
 
 
 def level_label(level: int, label: str) -> str:
@@ -102,6 +112,84 @@ def _polyline(run: list[tuple[float, float]], stroke: str, width: float, dash: s
         return f'<circle cx="{num(x)}" cy="{num(y)}" r="{num(width)}" fill="{stroke}"/>'
     return (f'<polyline points="{pts}" fill="none" stroke="{stroke}" stroke-width="{num(width)}" '
             f'stroke-linejoin="round" stroke-linecap="round"{dash_attr}/>')
+
+
+def _finite(v: Any) -> float | None:
+    if isinstance(v, bool) or not isinstance(v, int | float) or not math.isfinite(v):
+        return None
+    return float(v)
+
+
+def _arrow(x: float, y: float, from_deg: float, relative: str) -> str:
+    colour, style = _WIND.get(relative, (MUTED, "outline"))
+    fill = colour if style == "fill" else "#ffffff"
+    dash = ' stroke-dasharray="2.5 1.5"' if style == "dashed" else ""
+    width = "1.8" if style == "dashed" else "1.3"
+    return (f'<path class="wind-{relative}" d="{_ARROW}" '
+            f'transform="translate({num(x)} {num(y)}) rotate({num((from_deg + 180.0) % 360.0)})" '
+            f'fill="{fill}" stroke="{colour}" stroke-width="{width}"{dash}/>')
+
+
+def conditions_panel(good: list[tuple[datetime, Mapping]], xs: Any, units: str) -> tuple[list[str], list[str]]:
+    """The water level and wind rows under the heights, and their legend rows (SVG fragments)."""
+    scale, unit = (1.0 / _FOOT, "ft") if units == "imperial" else (1.0, "m")
+    level = [(xs(t), None if (v := _finite(st.get("water_level_m"))) is None else v * scale) for t, st in good]
+    shallow = [bool(st.get("shallow_points")) for _, st in good]
+    out = [text(_L - 8, _TT - 6, f"water level ({unit})", size=11, anchor="start", fill=MUTED)]
+    out.append(f'<rect x="{num(_L)}" y="{num(_TT)}" width="{num(_R - _L)}" height="{num(_TB - _TT)}" fill="#fbfbf8" '
+               f'stroke="{INK}" stroke-width="0.8"/>')
+    vals = [v for _, v in level if v is not None]
+    xs_all = [x for x, _ in level]
+    for i, flag in enumerate(shallow):  # shade the steps where a break point is out of the water
+        if flag:
+            left = _L if i == 0 else (xs_all[i - 1] + xs_all[i]) / 2
+            right = _R if i == len(xs_all) - 1 else (xs_all[i] + xs_all[i + 1]) / 2
+            out.append(f'<rect x="{num(left)}" y="{num(_TT + 0.5)}" width="{num(max(right - left, 0.5))}" '
+                       f'height="{num(_TB - _TT - 1)}" fill="{_SHALLOW}"/>')
+    if vals:
+        lo, hi = min(vals), max(vals)
+        pad = max(0.1 * (hi - lo), 0.05)
+        lo, hi = lo - pad, hi + pad
+        ys = lambda v: _TB - (v - lo) / (hi - lo) * (_TB - _TT)  # noqa: E731
+        for v in (lo + pad, hi - pad):
+            out.append(text(_L - 8, ys(v) + 4, f"{v:+.1f}", size=10.5, anchor="end"))
+        out += [_polyline([(x, ys(v)) for x, v in run], _TIDE, 2.0) for run in _runs(level)]
+        for (x, v), (_, st) in zip(level, good, strict=True):
+            if v is not None and st.get("water_level_source") == "observed":
+                out.append(f'<circle cx="{num(x)}" cy="{num(ys(v))}" r="2.6" fill="#ffffff" stroke="{_TIDE}" '
+                           'stroke-width="1.2"/>')
+    else:
+        out.append(text((_L + _R) / 2, (_TT + _TB) / 2 + 4, "no water level", size=11.5, anchor="middle", fill=MUTED))
+    out.append(text(_L - 8, _WY + 4, "wind", size=11, anchor="end", fill=MUTED))
+    last = -math.inf
+    any_wind = False
+    for t, st in good:
+        w = st.get("wind")
+        if not isinstance(w, Mapping):
+            continue
+        d, sp = _finite(w.get("direction_deg")), _finite(w.get("speed_m_s"))
+        x = xs(t)
+        if d is None or sp is None or x - last < 22:
+            continue
+        last, any_wind = x, True
+        out.append(_arrow(x, _WY, d, str(w.get("relative") or "")))
+        speed = f"{sp / (1852.0 / 3600.0):.0f}" if units == "imperial" else f"{sp:.0f}"
+        out.append(text(x, _WY + 22, speed, size=10, anchor="middle", fill=INK))
+    if not any_wind:
+        out.append(text((_L + _R) / 2, _WY + 4, "no wind source", size=11.5, anchor="middle", fill=MUTED))
+    legend = []
+    if vals:
+        legend.append(("tide", f'<line x1="{{x0}}" y1="{{y}}" x2="{{x1}}" y2="{{y}}" stroke="{_TIDE}" stroke-width="2"/>'
+                               f'<circle cx="{{xm}}" cy="{{y}}" r="2.6" fill="#ffffff" stroke="{_TIDE}"/>',
+                       "water level (o observed)"))  # fmt: skip
+    if any(shallow):
+        legend.append(("tide", f'<rect x="{{x0}}" y="{{ym}}" width="30" height="10" fill="{_SHALLOW}"/>',
+                       "too shallow / dry"))  # fmt: skip
+    if any_wind:
+        for rel in ("offshore", "cross", "onshore"):
+            legend.append(("wind", "ARROW:" + rel, f"wind {rel}"))
+        legend.append(("wind", "", "(speed " + ("kn)" if units == "imperial" else "m/s)")))
+    return out, legend
 
 
 def outlook_svg(steps: Sequence[Mapping[str, Any]], *, units: str = "metric", spot_name: str = "") -> str:
@@ -250,6 +338,8 @@ def outlook_svg(steps: Sequence[Mapping[str, Any]], *, units: str = "metric", sp
             lines.append(f'<path d="M{num(x)},{num(y - 4.5)} L{num(x + 4)},{num(y + 2.5)} L{num(x - 4)},{num(y + 2.5)} Z" '
                          f'fill="#ffffff" stroke="{_LARGEST}" stroke-width="1.3"/>')
     body.append('<g id="series">' + "".join(lines) + "</g>")
+    panel, cond_legend = conditions_panel(good, xs, units)
+    body.append('<g id="conditions">' + "".join(panel) + "</g>")
 
     # Legend
     lx, ly = _R + 26, _T - 20
@@ -288,10 +378,19 @@ def outlook_svg(steps: Sequence[Mapping[str, Any]], *, units: str = "metric", sp
                             fill=_HAZARD_TEXT[level]))
             leg.append(text(lx + 38, y, level_label(level, seen_levels[level])[:26], size=11.5))
             y += 20
+    if cond_legend:
+        y = max(y + 8, _TT - 10)
+        for _, sample, label in cond_legend:
+            if sample.startswith("ARROW:"):
+                leg.append(_arrow(lx + 15, y - 4, 270.0, sample.split(":", 1)[1]))
+            elif sample:
+                leg.append(sample.format(x0=num(lx), x1=num(lx + 30), xm=num(lx + 15), y=num(y - 4), ym=num(y - 10)))
+            leg.append(text(lx + 38, y, label, size=11.5))
+            y += 20
     body.append('<g id="legend">' + "".join(leg) + "</g>")
 
     if notes:
-        body.append(text(24, HEIGHT - 36, "; ".join(notes), size=11, fill=MUTED))
+        body.append(text(24, HEIGHT - 34, "; ".join(notes), size=11, fill=MUTED))
     body.append(text(24, HEIGHT - 16, _CAUTION, size=11.5, fill=MUTED))
     desc = (f"{title}: {len(good)} steps from {t0:%Y-%m-%d %H:%M} to {t1:%Y-%m-%d %H:%M} UTC, "
             f"heights in {unit}. {_CAUTION}")

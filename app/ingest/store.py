@@ -61,9 +61,9 @@ def parse_payload(fmt: str, files: Mapping[str, bytes], *, station: str | None =
 
         return _merge([parse_met(_text(d), name=n, station=station) for n, d in files.items()])
     if fmt == "cf-netcdf":
-        from app.formats.cf_spectra import parse_cf_spectra
+        from app.formats.cf_met import parse_cf_file
 
-        return _merge([parse_cf_spectra(d, name=n) for n, d in files.items()])
+        return _merge([parse_cf_file(d, name=n) for n, d in files.items()])
     raise BadInput(f"unknown source format {fmt!r}", field="format")
 
 
@@ -97,7 +97,8 @@ def _arrays_blob(record: SpectrumRecord) -> bytes:
 
 def _values(record: SpectrumRecord | MetRecord) -> dict[str, Any]:
     if isinstance(record, MetRecord):
-        return {f.name: getattr(record, f.name) for f in fields(record) if f.name not in ("time", "station")}
+        return {f.name: getattr(record, f.name) for f in fields(record)
+                if f.name not in ("time", "station", "issue_time")}  # fmt: skip
     return {"separation_frequency": record.separation_frequency, "source_file": _clean(record.source_file, 500)}
 
 
@@ -132,7 +133,7 @@ def store_result(session: Session, source: Source, result: ParseResult, *, files
     if records:
         times = [r.time for r in records]
         existing = {
-            (o.time, o.issue_key): o
+            (o.kind, o.time, o.issue_key): o
             for o in session.scalars(
                 select(Observation).where(
                     Observation.source_id == source.id,
@@ -141,10 +142,11 @@ def store_result(session: Session, source: Source, result: ParseResult, *, files
                 )
             )
         }
-        seen: set[tuple[datetime, str]] = set()
+        seen: set[tuple[str, datetime, str]] = set()
         for rec in records:
             is_met = isinstance(rec, MetRecord)
-            key = (rec.time, _issue_key(getattr(rec, "issue_time", None)))
+            kind = "met" if is_met else "spectrum"
+            key = (kind, rec.time, _issue_key(getattr(rec, "issue_time", None)))
             if key in seen:  # two stations or files gave the same key within one batch: first wins
                 report.unchanged += 1
                 continue
@@ -165,10 +167,10 @@ def store_result(session: Session, source: Source, result: ParseResult, *, files
                     Observation(
                         source_id=source.id,
                         station=_clean(rec.station, 64) or "",
-                        kind="met" if is_met else "spectrum",
+                        kind=kind,
                         time=rec.time,
                         issue_time=getattr(rec, "issue_time", None),
-                        issue_key=key[1],
+                        issue_key=key[2],
                         content_sha256=digest,
                         arrays=blob,
                         values=_values(rec),

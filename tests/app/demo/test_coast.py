@@ -99,16 +99,38 @@ def test_netcdf_is_gebco_style_and_places_the_peak(written):
     xs = dg.x0 + dg.dx * np.arange(dg.depth.shape[1])
     ys = dg.y0 + dg.dy * np.arange(dg.depth.shape[0])
     at = RegularGridInterpolator((ys, xs), dg.depth)
-    for _, x, y in coast.break_points(spot):
-        # resampled lon/lat -> local grid still puts each break point on its 2.5 m contour
-        assert at([y, x])[0] == pytest.approx(coast.BREAK_DEPTH_M, abs=0.4)
+    for (_, x, y), line in zip(coast.break_points(spot), spot.break_lines, strict=True):
+        # resampled lon/lat -> local grid still puts each break point on its contour (2.5 m, the bar 0.55 m)
+        assert at([y, x])[0] == pytest.approx(_line_depth(line), abs=0.4)
+
+
+def _line_depth(line) -> float:
+    return float(line[3]) if len(line) > 3 else coast.BREAK_DEPTH_M
 
 
 def test_break_points_sit_on_the_break_contour(grids):
     for kind, spot in SPOT.items():
         at = _sampler(grids[kind])
-        for name, x, y in coast.break_points(spot):
-            assert at([y, x])[0] == pytest.approx(coast.BREAK_DEPTH_M, abs=0.3), (kind, name)
+        for (name, x, y), line in zip(coast.break_points(spot), spot.break_lines, strict=True):
+            assert at([y, x])[0] == pytest.approx(_line_depth(line), abs=0.3), (kind, name)
+
+
+def test_the_ridge_bar_works_only_above_about_mid_tide():
+    # the bar's water depth (bed + level) against the 0.5 m "too shallow" limit of models.conditions over
+    # a spring-neap fortnight of the coast's tide table (models.tide, checked against utide)
+    from datetime import UTC, datetime, timedelta
+
+    from models.conditions import depth_state
+    from models.tide import Constituent, predict
+
+    bar = dict((n, (x, y)) for n, x, y in coast.break_points(SPOT["ridge"]))["south bar"]
+    bed = float(coast.spot_depth_function(SPOT["ridge"])(np.array([bar[0]]), np.array([bar[1]]))[0])
+    times = [datetime(2031, 3, 1, tzinfo=UTC) + timedelta(minutes=30 * k) for k in range(24 * 2 * 15)]
+    level = predict(times, [Constituent(*c) for c in coast.DEMO_TIDE])
+    _, state = depth_state(bed, level)
+    ok = state == "ok"
+    assert 0.35 < ok.mean() < 0.65  # about half the time: the upper half of the tide
+    assert level[ok].min() > -0.1 and (state[level < -0.6] == "dry").all()
 
 
 def test_write_is_deterministic(tmp_path, written):

@@ -52,7 +52,7 @@ def _steps_from(body, lo, hi):
 
 def test_first_run_builds_ingests_and_prints_cautions(demo):
     out = demo["first"]
-    assert "tables    13 built, 0 up to date" in out
+    assert "tables    14 built, 0 up to date" in out
     assert "demo-offshore-1: 37 new" in out or "demo-offshore-1:" in out and " new," in out
     for spot in ("Vorrel Point", "Quenning Ridge", "Quillance Bay", "Ostravel Strand"):
         assert spot in out
@@ -62,7 +62,7 @@ def test_first_run_builds_ingests_and_prints_cautions(demo):
 
 def test_second_run_reuses_tables_spots_and_feed(demo):
     out = demo["second"]
-    assert "tables    0 built, 13 up to date" in out
+    assert "tables    0 built, 14 up to date" in out
     assert "0 imported, 4 unchanged" in out
     assert " 0 new" in out or "not modified" in out  # nothing ingested twice
 

@@ -175,7 +175,9 @@ def test_feed_is_deterministic(tmp_path, files):
 
 def test_source_profiles(tmp_path):
     paths = feed.write_source_profiles(tmp_path, base_url="http://127.0.0.1:8765/")
-    station, model = (tomllib.loads(p.read_text()) for p in paths)
+    station, model, shore, wind = (tomllib.loads(p.read_text()) for p in paths)
+    assert shore["format"] == "met-text" and shore["water_level_datum_m"] == 0.0
+    assert wind["format"] == "cf-netcdf" and wind["urls"] == ["http://127.0.0.1:8765/demo-wind-1.nc"]
     for src in (station, model):
         for key in ("id", "name", "format", "latitude", "longitude", "depth_m", "urls", "poll_minutes"):
             assert key in src
@@ -187,3 +189,27 @@ def test_source_profiles(tmp_path):
 def test_naive_now_is_refused():
     with pytest.raises(ValueError, match="`now`"):
         feed.observation_records(feed.default_scenario(datetime(2026, 3, 14, 9)))
+
+
+def test_sea_breeze_is_offshore_in_the_morning_and_onshore_in_the_afternoon():
+    # local solar time at 127.3° W is UTC − 8.49 h (15° of longitude per hour); the coast faces west (270°)
+    from models.conditions import relative_wind
+
+    morning = datetime(2031, 1, 10, 16, 30, tzinfo=UTC)  # ~08:00 local
+    afternoon = datetime(2031, 1, 10, 23, 30, tzinfo=UTC)  # ~15:00 local
+    (s_m, d_m), (s_a, d_a) = feed.sea_breeze(morning), feed.sea_breeze(afternoon)
+    assert relative_wind([d_m, d_a], 270.0).tolist() == ["offshore", "onshore"]
+    assert s_a > s_m + 3.0  # the sea breeze is the stronger wind
+
+
+def test_shore_station_writes_tide_in_feet_and_the_wind_forecast_reads_back(files):
+    from app.formats.cf_met import parse_cf_file
+    from app.formats.ndbc_met import read_met
+
+    met = read_met(files.directory / f"{feed.SHORE_ID}.txt")
+    assert not met.rejects and len(met.records) >= 24
+    levels = feed.shore_levels([r.time for r in met.records])
+    np.testing.assert_allclose([r.tide_ft * 0.3048 for r in met.records], levels, atol=0.0016)  # 0.01 ft printed
+    wind = parse_cf_file((files.directory / f"{feed.WIND_ID}.nc").read_bytes(), name="w.nc")
+    assert not wind.rejects and {r.issue_time for r in wind.records} == {files.issue_time}
+    assert [(r.wind_speed_ms, r.wind_dir_deg) for r in wind.records[:3]] == [feed.sea_breeze(r.time) for r in wind.records[:3]]

@@ -112,7 +112,7 @@ MET = """#YY  MM DD hh mm WDIR WSPD GST  WVHT   DPD   APD MWD   PRES  ATMP  WTMP
 """
 
 
-def test_outlook_steps_carry_the_water_level_tide_wind_and_shallow_points(migrated_db: str) -> None:
+def _tidal_spot(migrated_db: str) -> None:
     with session_scope(migrated_db) as s:
         src = ot._source(s, "model")
         met = Source(id="pier", name="pier", format="met-text", latitude=0.0, longitude=0.0, depth_m=None, urls=[],
@@ -131,6 +131,11 @@ def test_outlook_steps_carry_the_water_level_tide_wind_and_shallow_points(migrat
         parsed = parse_met(MET.format(tide0=f"{feet[0]:.2f}", tide1=f"{feet[1]:.2f}"), name="pier.txt")
         assert not parsed.rejects
         store_result(s, met, parsed, files=["pier.txt"])
+
+
+def test_outlook_steps_carry_the_water_level_tide_wind_and_shallow_points(migrated_db: str) -> None:
+    _tidal_spot(migrated_db)
+    with session_scope(migrated_db) as s:
         body = outlooks.compute_outlook(s, "tidal", hours=3, start=T0).model_dump(mode="json")
     st = body["steps"]
     assert [x["water_level_source"] for x in st] == ["observed", "observed", "predicted", "predicted"]
@@ -209,3 +214,22 @@ def test_the_profile_tide_table_is_read_as_the_issue_writes_it_and_bad_entries_a
         parse_profile_text(PROFILE.replace('"s2"', '"M2"'), where="spot.toml")
     with pytest.raises(ProfileError, match=r"tide.constituents.0.amplitude_m"):
         parse_profile_text(PROFILE.replace("amplitude_m = 1.1", "amplitude_m = -1"), where="spot.toml")
+
+
+def test_the_outlook_table_shows_tide_and_wind(migrated_db: str, capsys: pytest.CaptureFixture[str]) -> None:
+    import argparse
+
+    from app.commands import outlook as cmd
+
+    _tidal_spot(migrated_db)
+    parser = argparse.ArgumentParser()
+    cmd.register(parser.add_subparsers())
+    args = parser.parse_args(["outlook", "tidal", "--hours", "3", "--from", "2030-01-01T00:00:00Z"])
+    assert args.func(args) == 0
+    out = capsys.readouterr().out
+    head = next(line for line in out.splitlines() if "typ/sets/max" in line)
+    assert "tide" in head and "wind" in head
+    first = next(line for line in out.splitlines() if line.startswith("2030-01-01T00:00:00Z"))
+    assert "6m/s E offshore" in first and "m*" in first.replace("↑", "").replace("↓", "")  # observed level
+    assert ("↑" in first) or ("↓" in first)
+    assert "lifeguards" in out  # the cautions stay
