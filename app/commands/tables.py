@@ -13,8 +13,9 @@ from app.db.session import session_scope
 class ProgressBar:
     """A one-line bar on a terminal; a line per spot otherwise (CI logs)."""
 
-    def __init__(self, stream=sys.stderr) -> None:  # type: ignore[no-untyped-def]
-        self.stream = stream
+    def __init__(self, stream=None) -> None:  # type: ignore[no-untyped-def]
+        # sys.stderr as it is now, not as it was at import (a test harness swaps it per test)
+        self.stream = sys.stderr if stream is None else stream
         self.tty = stream.isatty()
         self.last_label = ""
         self.t0 = time.perf_counter()
