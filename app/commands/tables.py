@@ -16,7 +16,7 @@ class ProgressBar:
     def __init__(self, stream=None) -> None:  # type: ignore[no-untyped-def]
         # sys.stderr as it is now, not as it was at import (a test harness swaps it per test)
         self.stream = sys.stderr if stream is None else stream
-        self.tty = stream.isatty()
+        self.tty = self.stream.isatty()
         self.last_label = ""
         self.t0 = time.perf_counter()
 
