@@ -207,7 +207,7 @@ def build_tables(
     points: Sequence[tuple[float, float]],
     *,
     executor: Executor | None = None,
-    progress: Callable[[int, int], None] | None = None,
+    progress: Callable[[int, int, str], None] | None = None,
     aperture: Aperture = PADE,
     shadow_reach_deg: float = 45.0,
     pe_options: dict[str, Any] | None = None,
@@ -216,8 +216,8 @@ def build_tables(
     """Refraction–diffraction tables for the reference points of one grid (see the module
     docstring). `ray_options` are `models.transfer.build_tables` keywords (the ray tables are built
     first, with them, and fill in what this method does not cover); `pe_options` override
-    `PE_DEFAULTS`. `progress(done, total)` counts ray chunks and then one step per (point, period)
-    component batch.
+    `PE_DEFAULTS`. `progress(done, total, what)` reports the ray chunks ("rays") and then each
+    component batch (one point × one period, all its directions) as it finishes.
     """
     opts = dict(PE_DEFAULTS)
     unknown = set(pe_options or {}) - set(opts)
@@ -225,7 +225,10 @@ def build_tables(
         raise InvalidInput(f"unknown refraction-diffraction option(s) {sorted(unknown)!r}")
     opts.update(pe_options or {})
     g = float(ray_options.get("g", G))
-    rays = transfer.build_tables(grid, points, executor=executor, **ray_options)
+    rays = transfer.build_tables(
+        grid, points, executor=executor,
+        progress=(lambda done, total: progress(done, total, "rays")) if progress else None, **ray_options,
+    )  # fmt: skip
     smoothing = rays[0].meta["smoothing_m"] if rays else 0.0
     sg = grid if grid.meta.get("smoothing_m") == smoothing else grid.smoothed(smoothing)
     tasks, refused = [], [dict() for _ in rays]
@@ -246,17 +249,21 @@ def build_tables(
                 )
     total = len(tasks)
     results = []
+
+    def what(task: tuple) -> str:
+        return f"point {task[0] + 1} T {task[5]:g} s ({len(task[6])} directions)"
+
     if executor is None:
         for i, task in enumerate(tasks):
             results.append(_pe_task(task))
             if progress:
-                progress(i + 1, total)
+                progress(i + 1, total, what(task))
     else:
         futs = [executor.submit(_pe_task, task) for task in tasks]
-        for i, fu in enumerate(futs):
+        for i, (task, fu) in enumerate(zip(tasks, futs, strict=True)):
             results.append(fu.result())
             if progress:
-                progress(i + 1, total)
+                progress(i + 1, total, what(task))
     return [
         _merge(tab, [r for r in results if r[0] == k], refused[k], aperture, opts)
         for k, tab in enumerate(rays)
