@@ -61,8 +61,9 @@ METHOD = "refraction-diffraction"
 SHADOW_LIMIT_DEG = 45.0  # where the rays bring nothing, the parabolic value is kept up to this angle
 
 PE_DEFAULTS: dict[str, Any] = dict(
-    upstream_m=3000.0,
-    half_width_m=1500.0,
+    upstream_m=2500.0,
+    half_width_m=1000.0,
+    direction_step_deg=4.0,
     max_nodes=400_000,
     land_depth_m=0.5,
     chunk=24,
@@ -186,9 +187,42 @@ def pe_rows(
 
 
 def _pe_task(args: tuple) -> tuple[int, int, NDArray[np.float64], dict[str, NDArray[np.float64]]]:
-    """Picklable unit of work: one point × one period × its directions."""
-    k, p, grid, x, y, T, dirs, turn, opts, aperture, g = args
-    return k, p, dirs, pe_rows(grid, x, y, T, dirs, opts, turn_deg=turn, aperture=aperture, g=g)
+    """Picklable unit of work: one point × one period × its directions. Only every `stride`-th bin
+    (and the ends of each run of bins) is marched; the bins between take linear interpolation
+    (circular for the direction): the parabolic K is smooth in the offshore direction."""
+    k, p, grid, x, y, T, dirs, turn, opts, aperture, g, bin_deg = args
+    u = np.rint(np.asarray(dirs) / bin_deg).astype(int)
+    nb = int(round(360.0 / bin_deg))
+    stride = max(1, int(round(float(opts["direction_step_deg"]) / bin_deg)))
+    have = set(u.tolist())
+    ends = np.array([(v - 1) % nb not in have or (v + 1) % nb not in have for v in u])
+    marched = (u % stride == 0) | ends
+    rows = pe_rows(grid, x, y, T, dirs[marched], opts, turn_deg=turn[marched], aperture=aperture, g=g)
+    if marched.all():
+        return k, p, dirs, rows
+    out = {key: np.full(u.size, np.nan) for key in rows}
+    for key in rows:
+        out[key][marched] = rows[key]
+    um = u[marched]
+    for i in np.flatnonzero(~marched):
+        lo = next(j for j in range(1, stride + 1) if (u[i] - j) % nb in have and marched[u == (u[i] - j) % nb][0])
+        hi = next(j for j in range(1, stride + 1) if (u[i] + j) % nb in have and marched[u == (u[i] + j) % nb][0])
+        a = int(np.flatnonzero(um == (u[i] - lo) % nb)[0])
+        b = int(np.flatnonzero(um == (u[i] + hi) % nb)[0])
+        w = lo / (lo + hi)
+        for key in ("K", "tc", "te"):
+            out[key][i] = (1 - w) * rows[key][a] + w * rows[key][b]
+        out["dev"][i] = np.fmax(rows["dev"][a], rows["dev"][b])
+        va, vb = np.radians(rows["ndir"][a]), np.radians(rows["ndir"][b])
+        if np.isfinite(va) and np.isfinite(vb):
+            out["ndir"][i] = math.degrees(math.atan2((1 - w) * math.sin(va) + w * math.sin(vb),
+                                                     (1 - w) * math.cos(va) + w * math.cos(vb))) % 360.0  # fmt: skip
+        else:
+            out["ndir"][i] = rows["ndir"][a] if np.isfinite(va) else rows["ndir"][b]
+        if not (rows["K"][a] > 0 and rows["K"][b] > 0):
+            out["tc"][i] = rows["tc"][a] if rows["K"][a] > 0 else rows["tc"][b]
+            out["te"][i] = rows["te"][a] if rows["K"][a] > 0 else rows["te"][b]
+    return k, p, dirs, out
 
 
 def _candidates(row: NDArray[np.float64], width: float, reach_deg: float) -> NDArray[np.intp]:
@@ -245,7 +279,8 @@ def build_tables(
                     ((tab.nearshore_direction_deg[p, idx] - d0 + 180.0) % 360.0) - 180.0
                 )  # FROM cw -> CCW
                 tasks.append(
-                    (k, p, sg, tab.reference_x, tab.reference_y, float(T), d0, turn, opts, aperture, g)
+                    (k, p, sg, tab.reference_x, tab.reference_y, float(T), d0, turn, opts, aperture, g,
+                     tab.direction_bin_deg)
                 )
     total = len(tasks)
     results = []
@@ -301,7 +336,7 @@ def _merge(tab, results, refused, aperture, opts) -> transfer.TransferTable:
         beyond_angle_limit=beyond,
         refraction_diffraction_bins=source.sum(axis=1).astype(int).tolist(),
         refraction_diffraction_mask=[np.flatnonzero(r).tolist() for r in source],
-        pe_options={k: v for k, v in opts.items() if k != "chunk"},
+        pe_options={key: v for key, v in opts.items() if key != "chunk"},
     )
     return transfer.TransferTable(
         periods_s=tab.periods_s, directions_deg=tab.directions_deg, coefficient=coef,
