@@ -67,8 +67,10 @@ __all__ = [
 ]
 
 DISSIPATION = ("battjes-janssen", "thornton-guza", "none")
+LAND_M = 3.0  # profiles reach this height above the datum (water levels up to it have a shoreline)
 MIN_DEPTH_M = 0.05  # total depth at which a node counts as dry (the shoreline)
 BLOCK_CASES = 8192
+SETS_SHARE = 0.1  # Q_b at the breaking position: the sets are the highest tenth of the waves
 PROFILE_NODES = 64  # nodes a profile is resampled to for the march (all profiles of a call alike)
 K1, K2 = 2.0, 3.6  # composite Weibull exponents (Battjes & Groenendijk 2000)
 EULER_GAMMA = 0.5772156649015329
@@ -142,7 +144,8 @@ def extract_profile(
 ) -> SurfProfile:
     """Sample the bed from (x0, y0) toward `bearing_deg` until it is dry (depth ≤ 0, the first
     dry sample kept) or the grid ends; in the latter case the mean slope of the last quarter is
-    continued to the shore (`extended`), or a flat bed stops there (InvalidInput: no shore)."""
+    continued to the shore (`extended`), or a flat bed stops there (InvalidInput: no shore).
+    Beyond the datum shoreline the foreshore slope is continued up to `LAND_M` above it."""
     if not bool(grid.contains(x0, y0)):
         raise InvalidInput(f"profile start ({x0!r}, {y0!r}) [m] is off the grid {grid.extent}")
     h0 = float(grid.depth_at(x0, y0))
@@ -160,20 +163,38 @@ def extract_profile(
     s, x, y = s[:stop], x[:stop], y[:stop]
     bed = np.asarray(grid.depth_at(x, y), dtype=float)
     dry = np.flatnonzero(bed <= 0.0)
+    extended = False
     if dry.size:
         k = int(dry[0]) + 1
-        return SurfProfile(s[:k], bed[:k], float(bearing_deg) % 360.0, float(x0), float(y0))
-    q = max(2, s.size // 4)
-    slope = (bed[-q] - bed[-1]) / (s[-1] - s[-q])
-    if not slope > 1e-4:
-        raise InvalidInput(
-            f"the profile from ({x0:.1f}, {y0:.1f}) toward {bearing_deg:.0f}° leaves the grid at depth "
-            f"{bed[-1]:.1f} m without reaching the shore"
-        )
-    extra = ds * np.arange(1, int(bed[-1] / slope / ds) + 2)
-    s = np.concatenate([s, s[-1] + extra])
-    bed = np.concatenate([bed, bed[-1] - slope * extra])
-    return SurfProfile(s, bed, float(bearing_deg) % 360.0, float(x0), float(y0), extended=True)
+        s, bed = s[:k], bed[:k]
+    else:
+        q = max(2, s.size // 4)
+        slope = (bed[-q] - bed[-1]) / (s[-1] - s[-q])
+        if not slope > 1e-4:
+            raise InvalidInput(
+                f"the profile from ({x0:.1f}, {y0:.1f}) toward {bearing_deg:.0f}° leaves the grid at depth "
+                f"{bed[-1]:.1f} m without reaching the shore"
+            )
+        extra = ds * np.arange(1, int(bed[-1] / slope / ds) + 2)
+        s = np.concatenate([s, s[-1] + extra])
+        bed = np.concatenate([bed, bed[-1] - slope * extra])
+        extended = True
+    # above the datum shoreline grids rarely resolve the beach: continue the foreshore (the mean
+    # slope where the bed is 0..2 m deep, at least 1:100) up to LAND_M, so any water level up to
+    # that has a shoreline on the profile
+    fore = bed > 0.0
+    band = fore & (bed <= 2.0)
+    if band.sum() >= 2:
+        sb, bb = s[band], bed[band]
+        m = max(float((bb[0] - bb[-1]) / max(sb[-1] - sb[0], 1e-9)), 0.01)
+    else:
+        m = max(float((bed[0] - bed[-1]) / max(s[-1] - s[0], 1e-9)), 0.01)
+    top = float(bed[-1])
+    if top > -LAND_M:
+        extra = ds * np.arange(1, int((LAND_M + top) / (m * ds)) + 2)
+        s = np.concatenate([s, s[-1] + extra])
+        bed = np.concatenate([bed, top - m * extra])
+    return SurfProfile(s, bed, float(bearing_deg) % 360.0, float(x0), float(y0), extended=extended)
 
 
 def resampled(profile: SurfProfile, nodes: int = PROFILE_NODES) -> tuple[float, NDArray[np.float64]]:
@@ -188,7 +209,7 @@ def resampled(profile: SurfProfile, nodes: int = PROFILE_NODES) -> tuple[float, 
 class SurfZone(NamedTuple):
     """Per case (C) and train (K). `*_profile` arrays (C, N) only with `keep_profiles=True`."""
 
-    i_break: NDArray[np.intp]  # node of the largest total H_m0 (the breaking position)
+    i_break: NDArray[np.intp]  # node where the sets break (the breaking position; see `transform`)
     x_break: NDArray[np.float64]  # cross-shore distance from the start [m]
     depth_break: NDArray[np.float64]  # total depth there (bed + water level + set-up) [m]
     m0_break: NDArray[np.float64]  # (C, K) train variances there [m²]
@@ -278,6 +299,11 @@ def transform(
     contour normal at node 0 (|θ| < 90); bed_m (C, N) bed depth below datum at equally spaced nodes,
     dx_m (C,) their cross-shore spacing; water_level_m (C,) above datum. `gamma` (C,) overrides
     Battjes & Stive's. A train with m0 = 0 carries nothing.
+
+    The breaking position: Q_b is the share of the waves that are breaking (Battjes & Janssen
+    1978), so the sets, the highest tenth, are breaking where Q_b first reaches 1/10 (shoalcast's
+    reading); where it never does, the node of the largest total H_m0. The trains' variances and
+    angles, Q_b and the total depth are reported there.
     """
     m0 = np.atleast_2d(np.asarray(m0, dtype=float))
     C, K = m0.shape
@@ -300,7 +326,8 @@ def transform(
             transform(m0[a : a + BLOCK_CASES], T[a : a + BLOCK_CASES], th0[a : a + BLOCK_CASES],
                       bed[a : a + BLOCK_CASES], dx[a : a + BLOCK_CASES], wl[a : a + BLOCK_CASES],
                       dissipation=dissipation, gamma=None if gamma is None else np.broadcast_to(gamma, (C,))[a : a + BLOCK_CASES],
-                      alpha=alpha, tg_gamma=tg_gamma, tg_b=tg_b, cap=cap, keep_profiles=keep_profiles, g=g)
+                      alpha=alpha, tg_gamma=tg_gamma, tg_b=tg_b, cap=cap,
+                      keep_profiles=keep_profiles, g=g)
             for a in range(0, C, BLOCK_CASES)
         ]  # fmt: skip
         return SurfZone(*(None if p[0] is None else np.concatenate(p) for p in zip(*parts, strict=True)))
@@ -354,9 +381,12 @@ def transform(
         E_i, F = E_i * scale[:, None], F * scale[:, None]
     S_prev = sxx(E_i, n[:, :K], cos)
     h_prev = hh
-    best = 4.0 * np.sqrt(E_i.sum(axis=1))
+    # the breaking position: the first node where Q_b (the share of waves breaking) reaches 1/10,
+    # the share the sets are (fallback: the largest H_m0 along the profile)
     i_break = np.zeros(C, dtype=np.intp)
     m0_b, ang_b, qb_b, d_b = E_i.copy(), th0.copy(), np.asarray(qb0, dtype=float).copy(), hh.copy()
+    found = np.asarray(qb0) >= SETS_SHARE
+    best = 4.0 * np.sqrt(E_i.sum(axis=1))
     x_shore = np.zeros(C)
     setup = np.zeros(C)
     prof = None
@@ -397,7 +427,9 @@ def transform(
         eta = np.where(wet, eta - (S - S_prev) / hbar, eta)
         S_prev, h_prev = np.where(wet, S, S_prev), np.where(wet, hd, h_prev)
         hm0_tot = 4.0 * np.sqrt(E_i.sum(axis=1))
-        up = wet & (hm0_tot > best)
+        hit = wet & ~found & (qb >= SETS_SHARE)
+        up = hit | (wet & ~found & (hm0_tot > best))
+        found = found | hit
         if up.any():
             best = np.where(up, hm0_tot, best)
             i_break = np.where(up, j, i_break)

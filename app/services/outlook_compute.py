@@ -18,7 +18,7 @@ from app.services.outlook_inputs import WaterLevel
 from app.services.outlook_steps import build_steps, cautions_for
 from models.surf import compute_spots
 
-OUTLOOK_VERSION = "outlook-2"  # part of every cache key: bump when the computation changes
+OUTLOOK_VERSION = "outlook-3"  # 3: surf-zone model along stored profiles  # part of every cache key: bump when the computation changes
 
 
 def compute_outlook(

@@ -237,8 +237,13 @@ class TestProfile:
         g = self._grid()
         p = sz.extract_profile(g, -300.0, 0.0, 90.0)  # toward east: the shore is at x = 200
         assert not p.extended
-        np.testing.assert_allclose(p.bed_m, 0.02 * (200.0 - (-300.0 + p.distance_m)), atol=1e-9)
-        assert p.bed_m[-1] <= 0 < p.bed_m[-2]
+        wet = p.bed_m > 0
+        k = int(np.argmin(wet))  # first dry sample
+        np.testing.assert_allclose(p.bed_m[: k + 1], 0.02 * (200.0 - (-300.0 + p.distance_m[: k + 1])), atol=1e-9)
+        assert wet[:k].all() and p.distance_m[k] == pytest.approx(500.0, abs=13.0)
+        # above the datum the foreshore slope (here the grid's 0.02) runs on to 3 m of land
+        assert p.bed_m[-1] <= -sz.LAND_M
+        np.testing.assert_allclose(np.diff(p.bed_m[k:]) / np.diff(p.distance_m[k:]), -0.02, rtol=1e-6)
         back = sz.SurfProfile.from_arrays(p.to_arrays())
         assert back is not None and np.array_equal(back.bed_m, p.bed_m) and back.bearing_deg == 90.0
         assert sz.SurfProfile.from_arrays({}) is None
@@ -249,8 +254,9 @@ class TestProfile:
         X, _ = np.meshgrid(x, y)
         g = DepthGrid(depth=0.02 * (200.0 - X), x0=float(x[0]), y0=float(y[0]), dx=25.0, dy=25.0)
         p = sz.extract_profile(g, -300.0, 0.0, 90.0)
-        assert p.extended and p.bed_m[-1] <= 0
-        assert p.distance_m[-1] == pytest.approx(500.0, abs=15.0)
+        assert p.extended and p.bed_m[-1] <= -sz.LAND_M
+        k = int(np.argmin(p.bed_m > 0))
+        assert p.distance_m[k] == pytest.approx(500.0, abs=15.0)
 
     def test_bad_start_is_a_clear_error(self):
         with pytest.raises(InvalidInput, match="dry"):
