@@ -48,8 +48,8 @@ def _setup(s, hs_by_hour: list[float]) -> None:
 
 
 def test_current_level_highest_in_horizon_and_onset(migrated_db: str) -> None:
-    # sets breaker heights grow with Hs: 0.4 m offshore stays below 1 m sets, 1.6 m is above 2 m
-    hs = [0.4, 0.4, 0.4, 0.8, 0.8, 1.6, 1.6, 1.6, 0.4, 0.4]
+    # sets breaker heights grow with Hs: 0.4 m offshore stays below 1 m sets, 2.0 m is above 2 m
+    hs = [0.4, 0.4, 0.4, 0.8, 0.8, 2.0, 2.0, 2.0, 0.4, 0.4]
     with session_scope(migrated_db) as s:
         _setup(s, hs)
         now = T0 + timedelta(minutes=30)
