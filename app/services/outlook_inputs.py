@@ -115,6 +115,7 @@ def spot_points(spot: Spot, notes: list[str] | None = None) -> list[PointSetup]:
 
     notes = notes if notes is not None else []
     grid = depth_grid_of(spot)
+    use_zone = bool((spot.profile or {}).get("model", {}).get("surf_zone", True))
     smoothed: dict[float, Any] = {}
     out = []
     for bp in spot.break_points:
@@ -135,7 +136,7 @@ def spot_points(spot: Spot, notes: list[str] | None = None) -> list[PointSetup]:
             )
             slope, normal = max(slope if math.isfinite(slope) else 0.0, MIN_SLOPE), float(spot.faces_deg)
         depth = float(geo.depth) if math.isfinite(float(geo.depth)) else float(bp.depth_m)
-        out.append(PointSetup(bp.name, float(bp.x), float(bp.y), table, depth, slope, normal % 360.0))
+        out.append(PointSetup(bp.name, float(bp.x), float(bp.y), table, depth, slope, normal % 360.0, use_zone))
     if not out:
         raise Conflict(
             f"spot {spot.id!r} has no transfer tables yet: build them with `shoalcast tables build {spot.id}` "

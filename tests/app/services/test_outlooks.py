@@ -8,6 +8,7 @@ surfer riding toward shore); closeout below a 20° peel angle (common practice, 
 
 from __future__ import annotations
 
+import dataclasses
 import importlib.util
 import json
 import math
@@ -41,9 +42,10 @@ T0 = datetime(2030, 1, 1, tzinfo=UTC)
 
 
 def run(
-    kind: str, ys: tuple[float, ...], efth: np.ndarray, *, policy: HazardPolicy = DEFAULT_POLICY, water=0.0
-):
-    pts = fx.points_for(kind, ys)
+    kind: str, ys: tuple[float, ...], efth: np.ndarray, *, policy: HazardPolicy = DEFAULT_POLICY, water=0.0,
+    profile: bool = False,
+):  # fmt: skip
+    pts = fx.points_for(kind, ys, profile=profile)
     e = np.asarray(efth)
     e = e[None] if e.ndim == 2 else e
     batch = outlooks.prepare_offshore(
@@ -86,6 +88,45 @@ def test_water_level_moves_the_break_shoreward_depth_up() -> None:
     _, high, _ = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0), water=1.5)
     assert high.db[0, 0, 0] == pytest.approx(low.db[0, 0, 0], rel=0.05)  # breaks at the same water depth
     assert np.all(high.water_level == 1.5)
+
+
+# --------------------------------------------------------------------------- surf-zone path
+
+
+def test_profile_path_on_the_straight_beach_is_depth_limited_with_set_up_and_run_up() -> None:
+    from models.breaking import komar_gaudiano, weggel_breaker_height
+
+    hs, tp = 1.2, 12.0
+    pts, arr, steps = run("beach", (0.0,), fx.swell(hs, tp, 270.0), profile=True)
+    assert pts[0].table.profile is not None and arr.method == ("surf-zone",)
+    typical, sets, largest = arr.hb[0, 0, :3]
+    db = arr.db[0, 0, 1]
+    # never past breaking: Weggel (1972; SPM 1984 eqs 2-92..2-94) at the breaking depth and slope
+    assert typical < sets < largest <= float(weggel_breaker_height(db, tp, fx.SLOPE)) + 1e-9
+    # the random sea's typical .. sets heights bracket Komar & Gaudiano's (1975) regular breaker
+    kg = float(komar_gaudiano(hs, tp))
+    assert 0.6 * kg < typical < kg < 1.3 * sets
+    assert 0.02 < arr.setup[0, 0] < 0.4 * hs  # order of Guza & Thornton (1981): 0.17 Hs0 (from memory)
+    assert arr.runup[0, 0] > arr.setup[0, 0]
+    z = steps[0].surf_zone
+    assert z is not None and z.model == "surf-zone" and z.runup_2pct_m is not None
+    assert z.foreshore_slope == pytest.approx(fx.SLOPE, abs=0.002)  # the fixture's 1:50 foreshore
+    assert steps[0].points[0].surf_model == "surf-zone"
+
+
+def test_profile_path_water_level_moves_the_break_shoreward() -> None:
+    _, low, _ = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0), profile=True)
+    _, high, _ = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0), water=1.5, profile=True)
+    # the same sea breaks at about the same total depth, 1.5 m / slope further along the profile
+    assert high.db[0, 0, 1] == pytest.approx(low.db[0, 0, 1], rel=0.1)
+    shift = high.break_distance[0, 0] - low.break_distance[0, 0]
+    assert shift == pytest.approx(1.5 / fx.SLOPE, rel=0.25)
+
+
+def test_single_wave_path_steps_carry_no_surf_zone_values() -> None:
+    _, arr, steps = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0))
+    assert arr.method == ("single-wave",) and steps[0].surf_zone is None
+    assert steps[0].points[0].surf_model is None
 
 
 # --------------------------------------------------------------------------- peel
@@ -291,6 +332,41 @@ def test_hazard_levels_switch_at_the_set_breaker_thresholds() -> None:
     assert [s.hazard.level for s in steps] == expected
     assert len(set(expected)) >= 3  # the ramp crosses at least two thresholds
     assert [s.hazard.label for s in steps] == [policy.label(v) for v in expected]
+
+
+@pytest.mark.parametrize("profile", [False, True])
+def test_a_sheltered_spot_is_not_raised_by_offshore_energy_its_window_blocks(profile: bool) -> None:
+    # a big long-period swell from the north-west, which the jetty blocks, and a small open one:
+    # offshore power is large, yet the default policy (nearshore inputs only) and an agency policy
+    # with a power threshold stay at level 0; the same policy on offshore values would be raised
+    blocked = fx.swell(3.0, 16.0, 320.0)
+    open_ = fx.swell(0.4, 9.0, 245.0)
+    powerful = HazardPolicy(
+        name="power policy",
+        levels=(
+            HazardLevel(0, "calm"),
+            HazardLevel(1, "care", set_height_m=1.5, power_kw_m=30.0),
+            HazardLevel(2, "danger", set_height_m=2.5, power_kw_m=60.0),
+            HazardLevel(3, "closed", set_height_m=4.0, power_kw_m=120.0),
+        ),
+    )
+    for policy in (DEFAULT_POLICY, powerful):
+        _, arr, steps = run("jetty", (0.0,), blocked + open_, policy=policy, profile=profile)
+        assert steps[0].offshore.wave_power_kw_m > 60.0  # ρg²Hm0²Te/(64π): about 70 kW/m offshore
+        assert steps[0].hazard.level == 0, policy.name
+        assert steps[0].hazard.inputs == "nearshore"
+        assert steps[0].hazard.rip_current_likelihood < 0.1
+    offshore = dataclasses.replace(powerful, basis="offshore")
+    _, _, steps = run("jetty", (0.0,), blocked + open_, policy=offshore, profile=profile)
+    assert steps[0].hazard.level >= 2 and steps[0].hazard.inputs == "offshore"
+
+
+def test_rip_likelihood_rises_with_the_breakers_that_arrive() -> None:
+    e = np.stack([fx.swell(h, 10.0, 270.0) for h in (0.5, 1.5, 2.5)])
+    _, _, steps = run("beach", (0.0,), e, profile=True)
+    rips = [s.hazard.rip_current_likelihood for s in steps]
+    assert rips == sorted(rips) and rips[0] < rips[-1]
+    assert all(s.hazard.shore_break is False for s in steps)  # a 1:50 foreshore is not steep
 
 
 # --------------------------------------------------------------------------- the database side
