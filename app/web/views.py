@@ -186,6 +186,8 @@ def _water(step: Mapping[str, Any], units: str) -> str | None:
     tide = step.get("tide") if isinstance(step.get("tide"), Mapping) else {}
     if level is None and not tide:
         return None
+    if step.get("water_level_source") == "mean-level" and not tide:
+        return None  # no tide profile and no observation: the level says nothing
     parts = []
     if level is not None:
         parts.append(f"{level / FOOT_M:+.1f} ft" if units == "imperial" else f"{level:+.2f} m")
