@@ -6,10 +6,13 @@ launch measure dβ that maps into offshore direction bin k (width Δθ0) gives
 
     K²(f, θ0_k) = (1/Δθ0) ∫_{β → bin k} (C·Cg)_exit / (C·Cg)_ref dβ,
 
-with (C·Cg) taken at the depth where the ray ended (its wave-base crossing, or an open-ocean
-edge in intermediate depth; see `models.rays` for fates). Each pair of neighbouring open rays is
-an *interval* [β_i, β_i+1] -> [θ0_i, θ0_i+1] whose measure is spread uniformly over the offshore
-directions it covers (no ray-counting noise).
+with (C·Cg)_exit = C0·Cg0 = g²/(2ω²), deep water: a ray ends open at its wave-base crossing
+(beyond it the bottom no longer matters, common practice) or where it leaves an open-ocean edge
+short of it, and is then continued to deep water over straight contours beyond the edge (Snell;
+see `models.rays`), which moves its offshore direction, not the invariant. Such directions are
+marked per bin (`continued_fraction`: the share of the bin's energy carried by continued rays).
+Each pair of neighbouring open rays is an *interval* [β_i, β_i+1] -> [θ0_i, θ0_i+1] whose measure
+is spread uniformly over the offshore directions it covers (no ray-counting noise).
 
 Adaptive launch refinement: the launch circle (spacing `launch_spacing_deg`) is subdivided up to
 `refine_levels` times (factor 2 each, default 6: 1/64 of the spacing) wherever two neighbouring
@@ -65,7 +68,7 @@ __all__ = [
     "swell_window",
 ]
 
-ENGINE_VERSION = "shoalcast-rays-2"
+ENGINE_VERSION = "shoalcast-rays-3"
 
 # 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
 DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
@@ -93,6 +96,9 @@ class TransferTable:
                               beyond the ray's end; comparable between points of one grid (peel)
     energy_travel_time_s      the same with group speed (energy)
     open_fraction             fraction of the bin's width covered by rays that reach the point
+    continued_fraction        share of the bin's energy from rays continued beyond a grid edge
+                              over assumed straight contours (0 where none; all 0 in tables
+                              stored before it existed)
     lost_fraction             rays that used up the step budget / all rays (by period in
                               `lost_fraction_by_period`)
     """
@@ -110,6 +116,11 @@ class TransferTable:
     reference_y: float
     lost_fraction: float
     meta: dict[str, Any] = field(default_factory=dict)
+    continued_fraction: NDArray[np.float64] | None = None
+
+    def __post_init__(self) -> None:
+        if self.continued_fraction is None:
+            object.__setattr__(self, "continued_fraction", np.zeros(np.shape(self.coefficient)))
 
     @property
     def direction_bin_deg(self) -> float:
@@ -128,6 +139,7 @@ class TransferTable:
                 "energy_travel_time_s",
                 "open_fraction",
                 "lost_fraction_by_period",
+                "continued_fraction",
             )
         }
         out.update({k: float(getattr(self, k)) for k in _SCALARS})
@@ -147,9 +159,11 @@ class TransferTable:
         kw: dict[str, Any] = {k: np.asarray(data[k], dtype=float) for k in names[:8]}
         kw.update({k: float(data[k]) for k in _SCALARS})
         kw["meta"] = json.loads(data.get("meta_json", "{}"))
+        if "continued_fraction" in data:  # absent in tables stored before it existed
+            kw["continued_fraction"] = np.asarray(data["continued_fraction"], dtype=float)
         t = cls(**kw)
         npd = (t.periods_s.size, t.directions_deg.size)
-        for k in names[2:7]:
+        for k in [*names[2:7], "continued_fraction"]:
             if getattr(t, k).shape != npd:
                 raise InvalidInput(f"`{k}` has shape {getattr(t, k).shape}, expected {npd}")
         return t
@@ -249,10 +263,12 @@ def _point_bin(d, q, nd: int, width: float) -> NDArray[np.float64]:
     return np.stack([np.bincount(k, weights=q[:, c], minlength=nd) for c in range(q.shape[1])], axis=-1)
 
 
-def _map_period(status, d_off, beta_near, w, tc, te, gap, unit: float, nd: int, width: float, fold: float):
+def _map_period(status, d_off, beta_near, w, tc, te, cont, gap, unit: float, nd: int, width: float, fold: float):
     """Interval mapping for one period. Inputs (nr,) in launch order (cyclic); `gap` (nr,) is the
-    launch measure from each ray to the next in units of `unit` [deg]. Returns the per-bin sums
-    (nd, 6) and the unresolved launch measure [deg] (split pairs with an open end)."""
+    launch measure from each ray to the next in units of `unit` [deg]; `cont` (nr,) 1.0 for rays
+    continued beyond an edge. Returns the per-bin sums (nd, 7: energy, its direction vector,
+    crest and energy times, covered width, continued energy) and the unresolved launch measure
+    [deg] (split pairs with an open end)."""
     nxt = np.roll(np.arange(status.size), -1)
     op = status == OPEN
     jump = ((d_off[nxt] - d_off + 180.0) % 360.0) - 180.0
@@ -271,17 +287,22 @@ def _map_period(status, d_off, beta_near, w, tc, te, gap, unit: float, nd: int, 
     bm = np.radians(beta_near[a] + 0.5 * bjump[a])
     m = meas[a] * wm
     q = np.stack(
-        [m, m * np.cos(bm), m * np.sin(bm), m * 0.5 * (tc[a] + tc[b]), m * 0.5 * (te[a] + te[b]), hi - lo],
+        [m, m * np.cos(bm), m * np.sin(bm), m * 0.5 * (tc[a] + tc[b]), m * 0.5 * (te[a] + te[b]), hi - lo,
+         m * 0.5 * (cont[a] + cont[b])],
         axis=-1,
-    )
-    acc = _cdf_bin(lo, hi, q, nd, width) if a.size else np.zeros((nd, 6))
+    )  # fmt: skip
+    acc = _cdf_bin(lo, hi, q, nd, width) if a.size else np.zeros((nd, 7))
 
     # tiny intervals (both ends at one offshore direction): the whole measure at that direction
     t = np.flatnonzero(tiny)
     if t.size:
         pm = meas[t] * 0.5 * (w[t] + w[nxt[t]])
         br = np.radians(beta_near[t] + 0.5 * bjump[t])
-        qp = np.stack([pm, pm * np.cos(br), pm * np.sin(br), pm * tc[t], pm * te[t], np.zeros(t.size)], axis=-1)
+        qp = np.stack(
+            [pm, pm * np.cos(br), pm * np.sin(br), pm * tc[t], pm * te[t], np.zeros(t.size),
+             pm * 0.5 * (cont[t] + cont[nxt[t]])],
+            axis=-1,
+        )  # fmt: skip
         acc = acc + _point_bin(d_off[t], qp, nd, width)
     # split pairs (ends differ in fate, or jump past `fold`) are left at the finest launch step:
     # their measure is not assigned to any direction (see the module docstring)
@@ -299,7 +320,7 @@ def _trace(grid, x_ref, y_ref, beta_rad, periods, opts):
     )  # fmt: skip
 
 
-_RAY_FIELDS = ("status", "theta", "x", "y", "depth", "crest_time", "energy_time")
+_RAY_FIELDS = ("status", "theta", "offshore_theta", "continued", "x", "y", "depth", "crest_time", "energy_time")
 
 
 def _refined_rays(grid, x_ref, y_ref, periods, opts) -> list[dict[str, NDArray]]:
@@ -326,7 +347,8 @@ def _refined_rays(grid, x_ref, y_ref, periods, opts) -> list[dict[str, NDArray]]
             gap = (d["u"][nxt] - d["u"]) % n_fine
             gap[gap == 0] = n_fine  # a single ray
             op = st == OPEN
-            jump = np.abs(((np.degrees(d["theta"][nxt] - d["theta"]) + 180.0) % 360.0) - 180.0)
+            th0 = d["offshore_theta"]
+            jump = np.abs(((np.degrees(th0[nxt] - th0) + 180.0) % 360.0) - 180.0)
             need = (gap > 1) & ((st != st[nxt]) | (op & op[nxt] & (jump > jlim)))
             k = np.flatnonzero(need)
             if k.size:
@@ -372,6 +394,7 @@ def _trace_table_rows(
     tt = np.full((periods.size, nd), np.nan)
     et = np.full((periods.size, nd), np.nan)
     of = np.zeros((periods.size, nd))
+    cf = np.zeros((periods.size, nd))
     lost = np.zeros(periods.size)
     blocked = np.zeros(periods.size)
     unresolved = np.zeros(periods.size)
@@ -384,7 +407,10 @@ def _trace_table_rows(
         he = np.where(op, np.maximum(d["depth"], 1e-3), 1.0)
         ce = phase_speed(f, he, g=g)
         cge = group_velocity(f, he, g=g)
-        w = ce * cge / (phase_speed(f, h_ref, g=g) * group_velocity(f, h_ref, g=g))
+        # the invariant E·C·Cg is read in deep water, C0·Cg0 = g²/(2ω²), for every open ray: those
+        # past L0/2 (there C·Cg is still 1.6 % above it) and those continued beyond an edge
+        c0cg0 = 0.5 * (g / (2.0 * math.pi * f)) ** 2
+        w = np.full(st.size, c0cg0 / (phase_speed(f, h_ref, g=g) * group_velocity(f, h_ref, g=g)))
         # plane-front reference through the origin: the wave travels toward -(cos θ, sin θ)
         proj = d["x"] * np.cos(d["theta"]) + d["y"] * np.sin(d["theta"])
         tc = d["crest_time"] - proj / ce
@@ -398,8 +424,8 @@ def _trace_table_rows(
         blocked[p] = share[st == BLOCKED].sum()
         n_rays[p] = st.size
         acc, unresolved[p] = _map_period(
-            st, _math_to_nautical(d["theta"]), _math_to_nautical(unit * d["u"] * (math.pi / 180.0)),
-            w, tc, te, gap, unit, nd, width, opts["fold_jump_deg"],
+            st, _math_to_nautical(d["offshore_theta"]), _math_to_nautical(unit * d["u"] * (math.pi / 180.0)),
+            w, tc, te, d["continued"].astype(float), gap, unit, nd, width, opts["fold_jump_deg"],
         )  # fmt: skip
         e = acc[:, 0]
         has = e > 1e-9 * unit  # below: round-off of the cumulative sums (an empty bin)
@@ -413,12 +439,15 @@ def _trace_table_rows(
             tt[p] = np.where(has, acc[:, 3] / e, np.nan)
             et[p] = np.where(has, acc[:, 4] / e, np.nan)
         of[p] = np.minimum(acc[:, 5] / width, 1.0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            cf[p] = np.where(has, np.clip(acc[:, 6] / e, 0.0, 1.0), 0.0)
     return {
         "coefficient": coef,
         "nearshore_direction_deg": ndir,
         "travel_time_s": tt,
         "energy_travel_time_s": et,
         "open_fraction": of,
+        "continued_fraction": cf,
         "lost_fraction_by_period": lost,
         "blocked_fraction": blocked,
         "unresolved_fraction": unresolved / 360.0,
@@ -570,6 +599,7 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         travel_time_s=cat["travel_time_s"],
         energy_travel_time_s=cat["energy_travel_time_s"],
         open_fraction=cat["open_fraction"],
+        continued_fraction=cat["continued_fraction"],
         lost_fraction_by_period=lost,
         reference_depth_m=h_ref,
         reference_x=x_ref,
