@@ -25,7 +25,9 @@ direction. Each ray ends
              only show as a one-cell ramp, reflects or breaks the wave rather than bending it
              round (without this, rays grazing such a ramp refract into its shadow); or it
              leaves the grid through a shallow spot or an edge that is not open ocean;
-    LOST     step budget `max_steps` used up (counted, reported by the caller).
+    LOST     step budget `max_steps` used up (counted, reported by the caller);
+    PASSED   it left the grid where `pass_through(x, y)` is true (a coarser grid around this one
+             takes it on): its state at the exit point is returned, to be traced further there.
 Beyond the wave base (depth > wave_base_fraction·L0, common practice: half the deep-water
 wavelength) the bottom no longer bends a ray, so its offshore direction and exit state are taken
 where it crossed the wave base. It is not declared open there, though: it goes on in a straight
@@ -38,7 +40,7 @@ refracts again and its later wave-base crossing counts.
 from __future__ import annotations
 
 import math
-from collections.abc import Collection
+from collections.abc import Callable, Collection
 from typing import NamedTuple
 
 import numpy as np
@@ -49,9 +51,9 @@ from models.constants import TWO_PI, G
 from models.errors import InvalidInput
 from models.waves import group_velocity_ratio, wavenumber
 
-__all__ = ["BLOCKED", "EDGES", "LOST", "OPEN", "RayResult", "dispersion_table", "trace_rays"]
+__all__ = ["BLOCKED", "EDGES", "LOST", "OPEN", "PASSED", "RayResult", "dispersion_table", "trace_rays"]
 
-OPEN, BLOCKED, LOST = 0, 1, 2
+OPEN, BLOCKED, LOST, PASSED = 0, 1, 2, 3
 
 # Dimensionless table in u = sqrt(k0 h): columns [Q, u/G, u/(G n)], G = C/C0, n = Cg/C (all smooth
 # in u down to 0, where G ~ u; the kernel divides by u).
@@ -214,6 +216,7 @@ def trace_rays(
     adaptive: bool = True,
     max_steps: int = 20000,
     record_path: bool = False,
+    pass_through: Callable[[NDArray[np.float64], NDArray[np.float64]], NDArray[np.bool_]] | None = None,
 ) -> RayResult:
     """Trace rays from (x, y) [m] heading `theta` [rad, math] for wave period `period_s` [s].
 
@@ -221,7 +224,8 @@ def trace_rays(
     `adaptive=False` keeps every step exactly `step_m` (used by reversibility checks).
     `wave_base_fraction=np.inf` disables the wave-base test. `open_edges` names the grid edges
     that are open ocean (see `DepthGrid.deep_edges(...).open_edges()`; None: all four). See the
-    module docstring for fates.
+    module docstring for fates. `pass_through(x, y)` (vectorised) marks exit points where
+    rays are handed on to an enclosing grid (status PASSED, state at the exit point).
     """
     x, y, theta, period = (np.array(a, dtype=float).ravel() for a in np.broadcast_arrays(x, y, theta, period_s))
     for name, a in (("x", x), ("y", y), ("theta", theta)):
@@ -395,10 +399,13 @@ def trace_rays(
             side = _edge_of(st[sel, 0], st[sel, 1], grid.extent)
             reach, th0 = _continue_to_deep(smp, st[sel, 2], k0[sel], side)
             ok = (he >= edge_depth[sel]) & edge_open[side] & (deep[sel] | reach)
+            handed = np.zeros(sel.size, dtype=bool) if pass_through is None else pass_through(st[sel, 0], st[sel, 1])
             m_open = np.zeros(idx.size, dtype=bool)
             m_block = np.zeros(idx.size, dtype=bool)
-            m_open[sel[ok]] = True
-            m_block[sel[~ok]] = True
+            m_pass = np.zeros(idx.size, dtype=bool)
+            m_open[sel[ok & ~handed]] = True
+            m_block[sel[~ok & ~handed]] = True
+            m_pass[sel[handed]] = True
             hx = np.zeros(idx.size)
             hx[sel] = he
             # a ray that was deep when it left reports its wave-base crossing, others the edge
@@ -410,6 +417,7 @@ def trace_rays(
             theta0[sel] = np.where(deep[sel], theta0[sel], th0)
             finish(m_open, OPEN, fin, np.where(dp, hsv, hx), theta0, cont)
             finish(m_block, BLOCKED, st, hx)
+            finish(m_pass, PASSED, st, hx)
             keep = ~out_x
             idx, st, prev, hp, saved, hsv, deep, h_deep, k0, c0, base, edge_depth = (
                 a[keep] for a in (idx, st, prev, hp, saved, hsv, deep, h_deep, k0, c0, base, edge_depth)

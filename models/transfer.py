@@ -52,7 +52,7 @@ from numpy.typing import ArrayLike, NDArray
 from models.bathymetry import DepthGrid
 from models.constants import G
 from models.errors import InvalidInput
-from models.rays import BLOCKED, EDGES, LOST, OPEN, trace_rays
+from models.rays import BLOCKED, EDGES, LOST, OPEN, PASSED, trace_rays
 from models.waves import group_velocity, phase_speed
 
 __all__ = [
@@ -66,6 +66,7 @@ __all__ = [
     "input_hash",
     "reference_point",
     "swell_window",
+    "wave_base_period_s",
 ]
 
 ENGINE_VERSION = "shoalcast-rays-3"
@@ -310,14 +311,49 @@ def _map_period(status, d_off, beta_near, w, tc, te, cont, gap, unit: float, nd:
     return acc, unresolved
 
 
-def _trace(grid, x_ref, y_ref, beta_rad, periods, opts):
+def _trace_one(grid, x, y, theta, periods, opts, open_edges, step_m, outer):
+    def passes(px, py):  # exit points that an enclosing (later) grid covers
+        return np.any([g.contains(px, py) for g in outer], axis=0)
+
     return trace_rays(
-        grid, x_ref, y_ref, beta_rad, periods,
+        grid, x, y, theta, periods,
         g=opts["g"], min_depth=opts["min_depth"], wave_base_fraction=opts["wave_base_fraction"],
-        edge_min_depth=opts["edge_min_depth"], open_edges=opts["open_edges"], max_slope=opts["max_slope"],
-        step_m=opts["step_m"],
-        max_turn_rad=opts["max_turn_rad"], max_steps=opts["max_steps"],
+        edge_min_depth=opts["edge_min_depth"], open_edges=open_edges, max_slope=opts["max_slope"],
+        step_m=step_m, max_turn_rad=opts["max_turn_rad"], max_steps=opts["max_steps"],
+        pass_through=passes if outer else None,
     )  # fmt: skip
+
+
+_ADDED = ("length", "crest_time", "energy_time", "steps")  # summed over the grids a ray crosses
+_TAKEN = ("status", "x", "y", "theta", "depth", "offshore_theta", "continued")  # from its last grid
+
+
+def _trace(grid, x_ref, y_ref, beta_rad, periods, opts):
+    """Trace on the local grid, then hand the rays that leave it on to the regional grids
+    (`opts["regional"]`, finest first): a ray goes on from its exit point, with its direction and
+    travel so far, in the first later grid that covers that point, and ends there by the same
+    rules (wave base, land, an open edge with continuation, or on to a coarser grid)."""
+    regional = opts.get("regional") or ()
+    levels = [(grid, opts["open_edges"], opts["step_m"])] + [(r["grid"], r["open_edges"], r["step_m"]) for r in regional]
+    outer = [lv[0] for lv in levels]
+    r = _trace_one(grid, x_ref, y_ref, beta_rad, periods, opts, levels[0][1], levels[0][2], outer[1:])
+    if not regional:
+        return r
+    per = np.broadcast_to(np.asarray(periods, dtype=float), r.status.shape)
+    out = {k: np.array(getattr(r, k)) for k in _ADDED + _TAKEN}
+    for lev in range(1, len(levels)):
+        g, open_edges, step = levels[lev]
+        wait = np.flatnonzero(out["status"] == PASSED)
+        here = wait[g.contains(out["x"][wait], out["y"][wait])]
+        if not here.size:
+            continue
+        rr = _trace_one(g, out["x"][here], out["y"][here], out["theta"][here], per[here], opts, open_edges, step, outer[lev + 1 :])
+        for k in _ADDED:
+            out[k][here] += getattr(rr, k)
+        for k in _TAKEN:
+            out[k][here] = getattr(rr, k)
+    out["status"][out["status"] == PASSED] = BLOCKED  # not reached: every exit a later grid covers is traced
+    return r._replace(**out)
 
 
 _RAY_FIELDS = ("status", "theta", "offshore_theta", "continued", "x", "y", "depth", "crest_time", "energy_time")
@@ -458,7 +494,7 @@ def _trace_table_rows(
 _DEFAULTS: dict[str, Any] = dict(
     direction_bin_deg=2.0, launch_spacing_deg=0.25, smoothing_m=None, min_depth=0.5,
     edge_min_depth=20.0, open_edges=None, max_slope=1.0 / 3.0, wave_base_fraction=0.5, step_m=None, max_turn_rad=0.05,
-    max_steps=20000, fold_jump_deg=10.0, refine_levels=6, refine_jump_deg=None, g=G,
+    max_steps=20000, fold_jump_deg=10.0, refine_levels=6, refine_jump_deg=None, g=G, regional=(),
 )  # fmt: skip
 
 
@@ -494,7 +530,27 @@ def _options(grid: DepthGrid, **kw: Any) -> dict[str, Any]:
         if bad:
             raise InvalidInput(f"`open_edges` must name edges among {EDGES}, got {bad!r}")
         opts["open_edges"] = names
+    opts["regional"] = _regional(grid, kw.get("regional") or (), float(kw["edge_min_depth"]))
     return opts
+
+
+def _regional(grid: DepthGrid, grids: Sequence[DepthGrid], edge_min_depth: float) -> list[dict[str, Any]]:
+    """Regional grids around the local one, finest first, each smoothed by two of its cells (its
+    own resolution; the smoothing length is kept in its meta) with open edges from its data."""
+    out = []
+    xmin, xmax, ymin, ymax = grid.extent
+    for k, g in enumerate(grids):
+        if not isinstance(g, DepthGrid):
+            raise InvalidInput(f"`regional[{k}]` must be a DepthGrid, got {type(g).__name__}")
+        gx0, gx1, gy0, gy1 = g.extent
+        if gx1 <= xmin or gx0 >= xmax or gy1 <= ymin or gy0 >= ymax:
+            raise InvalidInput(f"`regional[{k}]` {g.extent} does not overlap the local grid {grid.extent}")
+        sm = float(g.meta.get("smoothing_m", 2.0 * max(g.dx, g.dy)))
+        sg = _prepared(g, sm)
+        out.append({"grid": sg, "smoothing_m": sm, "step_m": max(min(g.dx, g.dy), 0.5 * sm),
+                    "open_edges": sg.deep_edges(edge_min_depth).open_edges(), "spacing": max(g.dx, g.dy)})  # fmt: skip
+    out.sort(key=lambda r: r["spacing"])
+    return out
 
 
 def _prepared(grid: DepthGrid, smoothing_m: float) -> DepthGrid:
@@ -533,6 +589,7 @@ def build_table(
     refine_levels: int = 6,
     refine_jump_deg: float | None = None,
     g: float = G,
+    regional: Sequence[DepthGrid] = (),
 ) -> TransferTable:
     """Transfer table for the reference point (x_ref, y_ref) [m] (see the module docstring).
 
@@ -544,6 +601,8 @@ def build_table(
     (common practice: half the deep-water wavelength) they run straight and report their state
     at the wave base. Launch intervals are bisected `refine_levels` times where neighbours differ
     in fate or in offshore direction by more than `refine_jump_deg` (default: the bin width).
+    `regional` are coarser grids around `grid` in the same local frame: rays leaving `grid` go on
+    in them (see `_trace`); each is smoothed by two of its own cells.
     """
     periods = _periods(periods_s)
     opts = _options(
@@ -551,7 +610,7 @@ def build_table(
         smoothing_m=smoothing_m, min_depth=min_depth, edge_min_depth=edge_min_depth,
         open_edges=open_edges, max_slope=max_slope, wave_base_fraction=wave_base_fraction, step_m=step_m,
         max_turn_rad=max_turn_rad, max_steps=max_steps, fold_jump_deg=fold_jump_deg,
-        refine_levels=refine_levels, refine_jump_deg=refine_jump_deg, g=g,
+        refine_levels=refine_levels, refine_jump_deg=refine_jump_deg, g=g, regional=regional,
     )  # fmt: skip
     sg = _prepared(grid, opts["smoothing_m"])
     x_ref, y_ref = float(x_ref), float(y_ref)
@@ -584,6 +643,11 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         "open_edges": list(opts["open_edges"]),
         "max_steps": int(opts["max_steps"]),
         "g": float(opts["g"]),
+        "regional_grids": [
+            {"shape": list(r["grid"].shape), "spacing_m": [r["grid"].dx, r["grid"].dy], "smoothing_m": r["smoothing_m"],
+             "step_m": r["step_m"], "open_edges": list(r["open_edges"])}
+            for r in opts.get("regional") or ()
+        ],  # fmt: skip
         "grid_shape": list(sg.shape),
         "grid_spacing_m": [sg.dx, sg.dy],
         "blocked_fraction_by_period": cat["blocked_fraction"].tolist(),
@@ -670,6 +734,25 @@ def build_tables(
         cat = {key: np.concatenate([p[key] for p in parts])[order] for key in parts[0]}
         tables.append(_assemble(periods, opts, sg, x, y, h, [cat]))
     return tables
+
+
+def wave_base_period_s(
+    grids: Sequence[DepthGrid], *, edge_min_depth: float = 20.0, wave_base_fraction: float = 0.5, g: float = G
+) -> float | None:
+    """Longest period whose wave base the grids reach: h = wave_base_fraction·gT²/(2π) solved for T,
+    with h the median depth of the open-ocean cells (>= `edge_min_depth`) along the open edges of
+    the outermost grid (the coarsest; rays end on its edges). None when it has no open edge."""
+    if not grids:
+        raise InvalidInput("`grids` must hold at least one DepthGrid")
+    outer = max(grids, key=lambda gr: max(gr.dx, gr.dy))
+    masks = outer.deep_edges(edge_min_depth)
+    d = outer.depth
+    edge_depths = {"south": d[0, :], "north": d[-1, :], "west": d[:, 0], "east": d[:, -1]}
+    cells = [edge_depths[e][getattr(masks, e)] for e in masks.open_edges()]
+    if not cells:
+        return None
+    h = float(np.median(np.concatenate(cells)))
+    return math.sqrt(2.0 * math.pi * h / (g * wave_base_fraction))
 
 
 # --------------------------------------------------------------------------- applying a table
@@ -783,11 +866,15 @@ def swell_window(table: TransferTable, threshold: float = 0.05) -> list[list[tup
     return out
 
 
-def input_hash(grid: DepthGrid | bytes, **parameters: Any) -> str:
-    """sha256 hex digest of the grid bytes, the parameters (sorted, JSON) and ENGINE_VERSION."""
+def input_hash(grid: DepthGrid | bytes, *, regional: Sequence[DepthGrid | bytes] = (), **parameters: Any) -> str:
+    """sha256 hex digest of the grid bytes, every regional grid's bytes (in order), the parameters
+    (sorted, JSON) and ENGINE_VERSION."""
     h = hashlib.sha256()
     h.update(ENGINE_VERSION.encode())
-    h.update(grid.to_bytes() if isinstance(grid, DepthGrid) else bytes(grid))
+    for k, g in enumerate([grid, *regional]):
+        b = g.to_bytes() if isinstance(g, DepthGrid) else bytes(g)
+        h.update(f"grid {k} {len(b)}:".encode())
+        h.update(b)
 
     def norm(v: Any) -> Any:
         if isinstance(v, np.ndarray):
