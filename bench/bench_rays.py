@@ -4,7 +4,8 @@
    scipy.integrate.solve_ivp (RK45) at equal accuracy (end direction error vs a fine reference);
 2. a full set of tables: 20 km × 20 km grid at 20 m, 32 periods, 0.25° launch spacing, 5 break
    points, on a process pool over (point, period-chunk), with wall time and memory peak;
-3. one point's table with a regional grid around the local one (rays handed on to it out to the
+3. a refraction-diffraction table of one demo spot against its ray table (issue 14), memory peak;
+4. one point's table with a regional grid around the local one (rays handed on to it out to the
    wave base) against the local grid alone (issue 12: aim at most 1.5x).
 """
 
@@ -166,6 +167,56 @@ def bench_tables(quick: bool) -> list[dict]:
     ]
 
 
+def bench_refraction_diffraction(quick: bool) -> list[dict]:
+    """One demo spot (the island bay, first break point), its profile's periods: the
+    refraction-diffraction build against its ray build, in this process, and its memory peak."""
+    from app.demo import coast
+    from models import refdif
+    from models.transfer import reference_point
+
+    spot = next(s for s in coast.SPOTS if s.kind == "bay")
+    lg = coast.spot_grid(spot)
+    grid = DepthGrid(lg.depth, lg.x[0], lg.y[0], lg.spacing, lg.spacing)
+    _, bx, by = coast.break_points(spot)[0]
+    ref = reference_point(grid, bx, by, spot.reference_depth_m)[:2]
+    n = 4 if quick else coast.PERIOD_COUNT
+    periods = np.round(np.geomspace(coast.PERIOD_MIN_S, coast.PERIOD_MAX_S, coast.PERIOD_COUNT), 3)[-n:]
+    kw = dict(periods_s=periods, launch_spacing_deg=coast.LAUNCH_SPACING_DEG)
+    t0 = time.perf_counter()
+    rays = build_tables(grid, [ref], **kw)[0]
+    t_rays = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    pe = refdif.build_tables(grid, [ref], **kw)[0]
+    t_pe = time.perf_counter() - t0
+    # memory: the two shortest periods computed (the largest local grids), traced separately
+    # (tracemalloc slows the build)
+    short = [float(p) for p in periods if f"{float(p):g}" not in pe.meta["refused_periods"]][:2]
+    tracemalloc.start()
+    refdif.build_tables(grid, [ref], **dict(kw, periods_s=short))
+    _, peak = tracemalloc.get_traced_memory()
+    tracemalloc.stop()
+    # the island's shadow: west swell (250-290°), the largest K over the periods
+    west = (pe.directions_deg >= 250) & (pe.directions_deg <= 290)
+    refused = len(pe.meta["refused_periods"])
+    return [
+        {
+            "benchmark": f"refraction-diffraction table: demo bay, 1 point, {n} periods, 1 process",
+            "result": f"{t_pe:.1f} s vs its ray table {t_rays:.1f} s ({refused} period(s) refused, rays there); "
+            f"west-swell K max {pe.coefficient[:, west].max():.2f} vs rays {rays.coefficient[:, west].max():.2f}",
+            "ratio": t_pe / t_rays,
+            "ratio_of": "refraction-diffraction build time / ray build time",
+            "target": "<= 10x",
+        },
+        {
+            "benchmark": "refraction-diffraction table: memory peak (its two shortest computed periods)",
+            "result": f"{peak / 2**20:.0f} MiB traced peak",
+            "ratio": peak / 2**31,
+            "ratio_of": "peak / 2 GiB",
+            "target": "< 1",
+        },
+    ]
+
+
 def bench_regional(quick: bool) -> list[dict]:
     size = 8000.0 if quick else 20000.0
     grid = synthetic_coast(size, 20.0)
@@ -196,7 +247,7 @@ def bench_regional(quick: bool) -> list[dict]:
 
 
 def run(quick: bool = False) -> list[dict]:
-    return bench_kernel(quick) + bench_tables(quick) + bench_regional(quick)
+    return bench_kernel(quick) + bench_tables(quick) + bench_refraction_diffraction(quick) + bench_regional(quick)
 
 
 if __name__ == "__main__":
