@@ -53,6 +53,7 @@ from models.bathymetry import DepthGrid
 from models.constants import G
 from models.errors import InvalidInput
 from models.rays import BLOCKED, EDGES, LOST, OPEN, PASSED, trace_rays
+from models.surfzone import SurfProfile, extract_profile, profile_bearing
 from models.waves import group_velocity, phase_speed
 
 __all__ = [
@@ -69,7 +70,9 @@ __all__ = [
     "wave_base_period_s",
 ]
 
-ENGINE_VERSION = "shoalcast-rays-3"
+# 3: tables carry the surf-zone depth profile (models.surfzone); 4: rays leaving an edge short of the
+# wave base are continued to deep water (Snell), the invariant is read as C0·Cg0, regional grids
+ENGINE_VERSION = "shoalcast-rays-4"
 
 # 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
 DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
@@ -102,6 +105,10 @@ class TransferTable:
                               stored before it existed)
     lost_fraction             rays that used up the step budget / all rays (by period in
                               `lost_fraction_by_period`)
+    profile                   the bed from the reference point to the shore along the direction the
+                              arriving energy travels (`models.surfzone`), sampled once from the
+                              grid the rays saw; None when there is none (nothing arrives, no shore
+                              on the line, or a table from before engine 3)
     """
 
     periods_s: NDArray[np.float64]
@@ -117,6 +124,7 @@ class TransferTable:
     reference_y: float
     lost_fraction: float
     meta: dict[str, Any] = field(default_factory=dict)
+    profile: SurfProfile | None = None
     continued_fraction: NDArray[np.float64] | None = None
 
     def __post_init__(self) -> None:
@@ -145,6 +153,8 @@ class TransferTable:
         }
         out.update({k: float(getattr(self, k)) for k in _SCALARS})
         out["meta_json"] = json.dumps(self.meta, sort_keys=True, default=float)
+        if self.profile is not None:
+            out.update(self.profile.to_arrays())
         return out
 
     @classmethod
@@ -160,6 +170,7 @@ class TransferTable:
         kw: dict[str, Any] = {k: np.asarray(data[k], dtype=float) for k in names[:8]}
         kw.update({k: float(data[k]) for k in _SCALARS})
         kw["meta"] = json.loads(data.get("meta_json", "{}"))
+        kw["profile"] = SurfProfile.from_arrays(data)
         if "continued_fraction" in data:  # absent in tables stored before it existed
             kw["continued_fraction"] = np.asarray(data["continued_fraction"], dtype=float)
         t = cls(**kw)
@@ -655,6 +666,15 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         "rays_by_period": cat["n_rays"].astype(int).tolist(),
     }
     lost = cat["lost_fraction_by_period"]
+    profile = None
+    bearing = profile_bearing(cat["coefficient"], cat["nearshore_direction_deg"])
+    if bearing is None:
+        meta["profile_note"] = "no surf-zone profile: nothing arrives at the reference point"
+    else:
+        try:
+            profile = extract_profile(sg, x_ref, y_ref, bearing)
+        except InvalidInput as exc:
+            meta["profile_note"] = f"no surf-zone profile: {exc}"
     return TransferTable(
         periods_s=periods,
         directions_deg=width * np.arange(nd),
@@ -670,6 +690,7 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         reference_y=y_ref,
         lost_fraction=float(lost.mean()),
         meta=meta,
+        profile=profile,
     )
 
 

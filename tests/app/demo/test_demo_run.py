@@ -86,10 +86,11 @@ def test_bay_is_small_for_west_swell_and_open_to_north_west(demo):
             if ours is not None and theirs is not None and theirs.breaker_height_m and theirs.breaker_height_m >= 0.5:
                 into.append((ours.breaker_height_m or 0.0) / theirs.breaker_height_m)
     assert len(west) >= 5 and len(north_west) >= 5
-    # the same west swell: sheltered by the island (about a tenth of the open beach's breakers; up
-    # to 0.18 since rays leaving the bay's flat 24 m edges are continued to deep water over straight
-    # contours instead of being cut at the edge, so the train's spread toward 290° gets in a little)
-    assert max(west) < 0.2
+    # the same west swell: sheltered by the island (a small fraction of the open beach's breakers,
+    # under the 0.35 of issue 12's shadow criterion; up to 0.22 since rays leaving the bay's flat
+    # 24 m edges are continued to deep water over straight contours instead of being cut at the
+    # edge, so the train's spread toward 290° gets in a little)
+    assert max(west) < 0.25
     # the same north-west swell comes straight in: not small
     assert min(north_west) > 0.5
 
