@@ -12,6 +12,7 @@ from app.errors import BadInput, ShoalcastError
 # one module per command group in app/commands/
 COMMANDS = (
     "db", "spot", "source", "ingest", "agency", "tables", "outlook", "hazards", "worker", "serve", "key", "openapi", "demo",
+    "verify",
 )
 
 

@@ -258,6 +258,39 @@ class Job(Base):
     error: Mapped[str | None] = mapped_column(sa.Text)
 
 
+class Verification(Base):
+    """One verification run of a spot's outlook against observations (app.services.verification)."""
+
+    __tablename__ = "verifications"
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    spot_id: Mapped[str] = mapped_column(sa.ForeignKey("spots.id", ondelete="CASCADE"), index=True)
+    observations: Mapped[str] = mapped_column(sa.String(500))  # file name or nearshore source id
+    created_by: Mapped[str] = mapped_column(sa.String(100))
+    created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    body: Mapped[dict[str, Any]] = mapped_column(JSONType)  # the report: metrics, by sector/band, pairs
+
+
+class Calibration(Base):
+    """A calibration factor for a spot's breaker heights. Versioned: each apply adds a version,
+    removing one keeps the row (removed_at/by) so the history stays readable."""
+
+    __tablename__ = "calibrations"
+    __table_args__ = (sa.UniqueConstraint("spot_id", "version"),)
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    spot_id: Mapped[str] = mapped_column(sa.ForeignKey("spots.id", ondelete="CASCADE"), index=True)
+    version: Mapped[int]
+    factor: Mapped[float]
+    factor_stderr: Mapped[float | None]
+    created_by: Mapped[str] = mapped_column(sa.String(100))
+    created_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+    removed_by: Mapped[str | None] = mapped_column(sa.String(100))
+    removed_at: Mapped[datetime | None] = mapped_column(UTCDateTime)
+    verification_id: Mapped[int | None]
+    metrics: Mapped[dict[str, Any]] = mapped_column(JSONType, default=dict)  # the scores it came from
+
+
 class DataVersion(Base):
     """One row: a counter bumped in every transaction that changes what outlooks, hazards or spots
     are made of (app.db.version), so every process can tell cheaply whether its answers still hold."""
@@ -271,11 +304,12 @@ class DataVersion(Base):
 
 __all__ = [
     "Agency",
-    "DataVersion",
     "Alert",
     "ApiKey",
     "Bathymetry",
     "BreakPoint",
+    "Calibration",
+    "DataVersion",
     "HazardPolicy",
     "Job",
     "Observation",
@@ -285,5 +319,6 @@ __all__ = [
     "SourceHealth",
     "Spot",
     "TransferTableRow",
+    "Verification",
     "utcnow",
 ]

@@ -1,6 +1,6 @@
 """The data version: one counter row (`data_version`) bumped in every transaction that changes what
 outlooks, hazard summaries or spot answers are made of (spots, grids, break points, transfer
-tables, sources, observations, agencies, policies).
+tables, sources, observations, agencies, policies, calibrations).
 
 Every process reads the same row, so with several workers on PostgreSQL an ETag or an in-process
 memo keyed on the version is right in all of them, and answering If-None-Match costs one primary
@@ -25,6 +25,7 @@ from app.db.tables import (
     Agency,
     Bathymetry,
     BreakPoint,
+    Calibration,
     DataVersion,
     HazardPolicy,
     Observation,
@@ -34,7 +35,7 @@ from app.db.tables import (
     utcnow,
 )
 
-TRACKED = (Agency, Bathymetry, BreakPoint, HazardPolicy, Observation, Source, Spot, TransferTableRow)
+TRACKED = (Agency, Bathymetry, BreakPoint, Calibration, HazardPolicy, Observation, Source, Spot, TransferTableRow)
 _ROW = 1
 _table = DataVersion.__table__
 _READ = sa.select(_table.c.version).where(_table.c.id == _ROW)

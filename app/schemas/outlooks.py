@@ -135,6 +135,12 @@ class Step(_Model):
     offshore: Offshore
     swells: list[Swell]
     points: list[PointDetail] = Field(default_factory=list)
+    calibrated: bool | None = Field(
+        default=None, description="true when the spot's calibration factor is applied (absent otherwise)"
+    )
+    calibration_factor: float | None = Field(default=None, description="the factor the raw heights were scaled by")
+    raw_breaker_height_m: HeightClasses | None = Field(default=None, description="the heights before calibration")
+    raw_breaker_height_ft: HeightClasses | None = None
 
     @field_serializer("time", "issued", "observed_at")
     def _times(self, value: datetime | None) -> str | None:
@@ -143,7 +149,8 @@ class Step(_Model):
     @model_serializer(mode="wrap")
     def _one_height_key(self, handler: Any) -> dict[str, Any]:
         data = handler(self)
-        for key in ("breaker_height_m", "breaker_height_ft"):
+        for key in ("breaker_height_m", "breaker_height_ft", "calibrated", "calibration_factor",
+                    "raw_breaker_height_m", "raw_breaker_height_ft"):  # fmt: skip
             if data.get(key) is None:
                 data.pop(key, None)
         return data

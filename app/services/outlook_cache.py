@@ -25,6 +25,7 @@ from app.db.tables import OutlookCache, Source, utcnow
 from app.errors import BadInput, Conflict, NotFound
 from app.schemas.outlooks import OutlookBody, OutlookOptions
 from app.services import outlook_inputs as inputs
+from app.services.calibration import active_calibration, calibration_key
 from app.services.outlook_compute import OUTLOOK_VERSION, compute_outlook
 from app.services.outlook_inputs import WaterLevel
 
@@ -73,6 +74,9 @@ def outlook_key(
         "policy": inputs.policy_of(session, agency_id, spot.id).to_mapping(),
         "options": [hours, t0.isoformat(), units, agency_id, inputs.water_key(water_level_m)],
     }
+    cal = active_calibration(session, spot.id)
+    if cal is not None:  # only when present: uncalibrated keys stay as they were
+        doc["calibration"] = calibration_key(cal)
     return hashlib.sha256(json.dumps(doc, sort_keys=True, default=str).encode()).hexdigest()
 
 

@@ -14,8 +14,9 @@ from sqlalchemy.orm import Session
 from app.db.tables import utcnow
 from app.schemas.outlooks import OutlookBody, OutlookOptions, Step
 from app.services import outlook_inputs as inputs
+from app.services.calibration import active_calibration, steps_with_calibration
 from app.services.outlook_inputs import WaterLevel
-from app.services.outlook_steps import build_steps, cautions_for
+from app.services.outlook_steps import cautions_for
 from models.surf import compute_spots
 
 OUTLOOK_VERSION = "outlook-2"  # part of every cache key: bump when the computation changes
@@ -44,11 +45,15 @@ def compute_outlook(
     found = inputs.batches(session, spot, inputs.candidates(session, spot, t0, end), t0, end, notes)
     if not spot.sources:
         notes.append("the spot has no sources: no steps")
+    cal = active_calibration(session, spot.id)
+    if cal is not None:
+        notes.append(f"heights calibrated: x{cal.factor:.3f} (version {cal.version}, by {cal.created_by}, "
+                     f"{cal.created_at:%Y-%m-%d %H:%M} UTC); raw heights in raw_breaker_height_*")  # fmt: skip
     steps: list[Step] = []
     for batch in inputs.select_inputs(found):
         wl = inputs.water_level_at(water_level_m, batch.times)
         arr = compute_spots(batch, [points], water_level_m=wl)[0]
-        steps.extend(build_steps(batch, points, arr, policy, units))
+        steps.extend(steps_with_calibration(batch, points, arr, policy, units, cal))
     steps.sort(key=lambda s: s.time)
     return OutlookBody(
         spot_id=spot.id, name=spot.name, units=units, cautions=cautions_for(policy), computed_at=utcnow(), start=t0,

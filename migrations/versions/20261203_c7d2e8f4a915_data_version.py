@@ -1,7 +1,7 @@
 """data_version: one counter row bumped by every change of spots, tables, sources, observations, agencies
 
 Revision ID: c7d2e8f4a915
-Revises: a1f3c9e2b7d4
+Revises: 6ada0f9a01c0
 Create Date: 2026-12-03 12:40:00
 """
 
@@ -16,7 +16,7 @@ from alembic import op
 import app.db.base
 
 revision = "c7d2e8f4a915"
-down_revision = "a1f3c9e2b7d4"
+down_revision = "6ada0f9a01c0"
 branch_labels = None
 depends_on = None
 
