@@ -64,7 +64,9 @@ class Reader:
 
     def __init__(self, url: str) -> None:
         kw: dict[str, object] = {"pool_reset_on_return": None, "isolation_level": "AUTOCOMMIT"}
-        if not url.startswith("sqlite"):
+        if url.startswith("sqlite"):  # connections move between the server's threads, as in app.db.session
+            kw["connect_args"] = {"check_same_thread": False, "timeout": 15}
+        else:
             kw.update(pool_size=4, max_overflow=8, pool_recycle=1800)
         self.engine = sa.create_engine(url, **kw)  # type: ignore[arg-type]
 

@@ -44,7 +44,8 @@ def test_parse_wrk_refuses_what_it_cannot_read() -> None:
 def test_no_ratio_under_the_floor() -> None:
     assert bench_api.ratio_or_none(600.0, bench_api.BARE_FLOOR - 1) is None
     assert bench_api.ratio_or_none(600.0, 2000.0) == pytest.approx(0.3)
-    rows = bench_api.rows({"bare": {"rps": 500.0, "p50_ms": 1.0, "p99_ms": 2.0, "socket_errors": 0, "bad": 0},
-                           "hazards 304": {"rps": 400.0, "p50_ms": 1.0, "p99_ms": 2.0, "socket_errors": 0, "bad": 0}},
-                          seconds=3)  # fmt: skip
-    assert rows[1]["ratio"] is None and "no ratio" in rows[1]["result"]
+    m = {"p50_ms": 1.0, "p99_ms": 2.0, "socket_errors": 0, "bad": 0}
+    rows = bench_api.rows({"hazards 304": {**m, "rps": 400.0}, "hazards 200": {**m, "rps": 600.0}},
+                          {"hazards 304": {**m, "rps": 500.0}, "hazards 200": {**m, "rps": 2000.0}}, seconds=3)
+    assert rows[1]["ratio"] is None and "no ratio" in rows[1]["result"]  # its baseline was client-bound
+    assert rows[2]["ratio"] == pytest.approx(0.3)  # each path against the baseline run just before it
