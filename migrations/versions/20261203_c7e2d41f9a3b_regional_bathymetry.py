@@ -1,7 +1,7 @@
 """regional_bathymetry: coarser grids around a spot's local grid (profile `[[regional_bathymetry]]`)
 
 Revision ID: c7e2d41f9a3b
-Revises: 6ada0f9a01c0
+Revises: c7d2e8f4a915
 Create Date: 2026-12-03 13:30:00
 """
 
@@ -13,7 +13,7 @@ from alembic import op
 import app.db.base
 
 revision = "c7e2d41f9a3b"
-down_revision = "6ada0f9a01c0"
+down_revision = "c7d2e8f4a915"
 branch_labels = None
 depends_on = None
 
