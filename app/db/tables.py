@@ -41,6 +41,9 @@ class Spot(Base):
     bathymetry: Mapped[Bathymetry | None] = relationship(
         back_populates="spot", cascade="all, delete-orphan", uselist=False
     )
+    regional_grids: Mapped[list[RegionalBathymetry]] = relationship(
+        back_populates="spot", cascade="all, delete-orphan", order_by="RegionalBathymetry.position"
+    )
 
 
 class BreakPoint(Base):
@@ -83,6 +86,31 @@ class Bathymetry(Base):
     sha256: Mapped[str] = mapped_column(sa.String(64))
 
     spot: Mapped[Spot] = relationship(back_populates="bathymetry")
+
+
+class RegionalBathymetry(Base):
+    """A coarser grid around the spot's local one (profile `[[regional_bathymetry]]`), resampled
+    to the same local frame; `position` is its order in the profile."""
+
+    __tablename__ = "regional_bathymetry"
+    __table_args__ = (sa.UniqueConstraint("spot_id", "position"),)
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    spot_id: Mapped[str] = mapped_column(sa.ForeignKey("spots.id", ondelete="CASCADE"), index=True)
+    position: Mapped[int]
+    depth: Mapped[np.ndarray] = mapped_column(NpyArray)  # depth[j, i], row 0 = south, positive down
+    nx: Mapped[int]
+    ny: Mapped[int]
+    x0: Mapped[float]
+    y0: Mapped[float]
+    dx: Mapped[float]
+    dy: Mapped[float]
+    datum: Mapped[str] = mapped_column(sa.String(32))
+    source_file: Mapped[str] = mapped_column(sa.String(500))
+    source_format: Mapped[str] = mapped_column(sa.String(32))
+    sha256: Mapped[str] = mapped_column(sa.String(64))
+
+    spot: Mapped[Spot] = relationship(back_populates="regional_grids")
 
 
 class TransferTableRow(Base):
@@ -292,6 +320,17 @@ class Calibration(Base):
     metrics: Mapped[dict[str, Any]] = mapped_column(JSONType, default=dict)  # the scores it came from
 
 
+class DataVersion(Base):
+    """One row: a counter bumped in every transaction that changes what outlooks, hazards or spots
+    are made of (app.db.version), so every process can tell cheaply whether its answers still hold."""
+
+    __tablename__ = "data_version"
+
+    id: Mapped[int] = mapped_column(primary_key=True, autoincrement=False)
+    version: Mapped[int] = mapped_column(sa.BigInteger, default=1)
+    changed_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+
+
 __all__ = [
     "Agency",
     "Alert",
@@ -299,10 +338,12 @@ __all__ = [
     "Bathymetry",
     "BreakPoint",
     "Calibration",
+    "DataVersion",
     "HazardPolicy",
     "Job",
     "Observation",
     "OutlookCache",
+    "RegionalBathymetry",
     "Reject",
     "Source",
     "SourceHealth",

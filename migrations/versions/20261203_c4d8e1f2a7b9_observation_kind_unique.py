@@ -1,7 +1,7 @@
 """observations unique per kind: a CF file may give a spectrum and a water level / wind row at one time
 
 Revision ID: c4d8e1f2a7b9
-Revises: 6ada0f9a01c0
+Revises: c7e2d41f9a3b
 Create Date: 2026-12-03 13:00:00
 """
 
@@ -10,7 +10,7 @@ from __future__ import annotations
 from alembic import op
 
 revision = "c4d8e1f2a7b9"
-down_revision = "6ada0f9a01c0"
+down_revision = "c7e2d41f9a3b"
 branch_labels = None
 depends_on = None
 
