@@ -18,7 +18,7 @@ from app.api.deps import SessionDep, SettingsDep, cache_control, conditional, js
 from app.api.http import etag_for
 from app.api.routes._common import READ, problems
 from app.api.routes.spots import spots_version
-from app.db.tables import Agency, HazardPolicy, Observation, Spot
+from app.db.tables import Agency, Calibration, HazardPolicy, Observation, Spot
 from app.errors import BadInput, NotFound, ShoalcastError
 from app.schemas.outlooks import OutlookBody
 from app.services import spots as spot_service
@@ -41,6 +41,9 @@ def outlook_version(session: Any, spot: Spot, agency_id: str | None) -> str:
             .where(Observation.source_id == source_id)
         ).one()
         h.update(repr((source_id, tuple(row))).encode())
+    h.update(repr(session.execute(  # a calibration applied or removed changes the heights
+        sa.select(sa.func.count(), sa.func.max(Calibration.id), sa.func.max(Calibration.removed_at))
+        .where(Calibration.spot_id == spot.id)).one()).encode())
     if agency_id is not None:
         h.update(repr(session.execute(sa.select(Agency.updated_at).where(Agency.id == agency_id)).one_or_none()).encode())
         for row in session.execute(sa.select(HazardPolicy.spot_key, HazardPolicy.updated_at).where(
