@@ -3,7 +3,8 @@
 1. ray-steps per second of the vectorised tracer vs the same rays one at a time with
    scipy.integrate.solve_ivp (RK45) at equal accuracy (end direction error vs a fine reference);
 2. a full set of tables: 20 km × 20 km grid at 20 m, 32 periods, 0.25° launch spacing, 5 break
-   points, on a process pool over (point, period-chunk), with wall time and memory peak.
+   points, on a process pool over (point, period-chunk), with wall time and memory peak;
+3. a refraction-diffraction table of one demo spot against its ray table (issue 14), memory peak.
 """
 
 from __future__ import annotations
@@ -151,8 +152,58 @@ def bench_tables(quick: bool) -> list[dict]:
     ]
 
 
+def bench_refraction_diffraction(quick: bool) -> list[dict]:
+    """One demo spot (the island bay, first break point), its profile's periods: the
+    refraction-diffraction build against its ray build, in this process, and its memory peak."""
+    from app.demo import coast
+    from models import refdif
+    from models.transfer import reference_point
+
+    spot = next(s for s in coast.SPOTS if s.kind == "bay")
+    lg = coast.spot_grid(spot)
+    grid = DepthGrid(lg.depth, lg.x[0], lg.y[0], lg.spacing, lg.spacing)
+    _, bx, by = coast.break_points(spot)[0]
+    ref = reference_point(grid, bx, by, spot.reference_depth_m)[:2]
+    n = 4 if quick else coast.PERIOD_COUNT
+    periods = np.round(np.geomspace(coast.PERIOD_MIN_S, coast.PERIOD_MAX_S, coast.PERIOD_COUNT), 3)[-n:]
+    kw = dict(periods_s=periods, launch_spacing_deg=coast.LAUNCH_SPACING_DEG)
+    t0 = time.perf_counter()
+    rays = build_tables(grid, [ref], **kw)[0]
+    t_rays = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    pe = refdif.build_tables(grid, [ref], **kw)[0]
+    t_pe = time.perf_counter() - t0
+    # memory: the two shortest periods computed (the largest local grids), traced separately
+    # (tracemalloc slows the build)
+    short = [float(p) for p in periods if f"{float(p):g}" not in pe.meta["refused_periods"]][:2]
+    tracemalloc.start()
+    refdif.build_tables(grid, [ref], **dict(kw, periods_s=short))
+    _, peak = tracemalloc.get_traced_memory()
+    tracemalloc.stop()
+    # the island's shadow: west swell (250-290°), the largest K over the periods
+    west = (pe.directions_deg >= 250) & (pe.directions_deg <= 290)
+    refused = len(pe.meta["refused_periods"])
+    return [
+        {
+            "benchmark": f"refraction-diffraction table: demo bay, 1 point, {n} periods, 1 process",
+            "result": f"{t_pe:.1f} s vs its ray table {t_rays:.1f} s ({refused} period(s) refused, rays there); "
+            f"west-swell K max {pe.coefficient[:, west].max():.2f} vs rays {rays.coefficient[:, west].max():.2f}",
+            "ratio": t_pe / t_rays,
+            "ratio_of": "refraction-diffraction build time / ray build time",
+            "target": "<= 10x",
+        },
+        {
+            "benchmark": "refraction-diffraction table: memory peak (its two shortest computed periods)",
+            "result": f"{peak / 2**20:.0f} MiB traced peak",
+            "ratio": peak / 2**31,
+            "ratio_of": "peak / 2 GiB",
+            "target": "< 1",
+        },
+    ]
+
+
 def run(quick: bool = False) -> list[dict]:
-    return bench_kernel(quick) + bench_tables(quick)
+    return bench_kernel(quick) + bench_tables(quick) + bench_refraction_diffraction(quick)
 
 
 if __name__ == "__main__":

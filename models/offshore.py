@@ -42,6 +42,7 @@ class OffshoreBatch:
     issued: datetime | None = None
     observed_at: list[datetime | None] = field(default_factory=list)
     coverage: list[float] = field(default_factory=list)  # arrival steps: energy share observed
+    estimate: list[str | None] = field(default_factory=list)  # per step: how E(f, θ) was obtained
     memo: dict[str, Any] = field(default_factory=dict, compare=False, repr=False)  # per-batch formatting
 
     def subset(self, idx: Sequence[int]) -> OffshoreBatch:
@@ -54,6 +55,7 @@ class OffshoreBatch:
             power_kw_m=self.power_kw_m[i], issued=self.issued,
             observed_at=[self.observed_at[k] for k in i] if self.observed_at else [],
             coverage=[self.coverage[k] for k in i] if self.coverage else [],
+            estimate=[self.estimate[k] for k in i] if self.estimate else [],
         )  # fmt: skip
 
 
@@ -68,6 +70,7 @@ def prepare_offshore(
     issued: datetime | None = None,
     observed_at: Sequence[datetime | None] | None = None,
     coverage: Sequence[float] | None = None,
+    estimate: Sequence[str | None] | None = None,
     max_trains: int = MAX_TRAINS,
 ) -> OffshoreBatch:
     """Partition the spectra and build the per-train masked stack (done once per input, shared by spots)."""
@@ -99,6 +102,7 @@ def prepare_offshore(
         trains=tuple(t[:k] for t in found), hm0=h, tp=tp, peak_dir=peak_dir, power_kw_m=power,
         issued=issued, observed_at=list(observed_at) if observed_at is not None else [],
         coverage=list(coverage) if coverage is not None else [],
+        estimate=list(estimate) if estimate is not None else [],
     )  # fmt: skip
 
 

@@ -1,4 +1,4 @@
-"""`shoalcast tables build [SPOT_ID ...]` and `shoalcast window SPOT_ID`: refraction transfer tables."""
+"""`shoalcast tables build [SPOT_ID ...]` and `shoalcast window SPOT_ID`: transfer tables (rays, or\nrefraction-diffraction when the profile's `[model] method` asks for it)."""
 
 from __future__ import annotations
 
@@ -27,8 +27,9 @@ class ProgressBar:
             if done >= total:
                 self.stream.write(f"  {time.perf_counter() - self.t0:.1f} s\n")
             self.stream.flush()
-        elif done >= total:
-            self.stream.write(f"  {label}: {total}/{total} chunks, {time.perf_counter() - self.t0:.1f} s\n")
+        elif done >= total or (label != self.last_label and " T " in label):
+            # a line per finished stage; refraction-diffraction labels name each component
+            self.stream.write(f"  {label}: {done}/{total}, {time.perf_counter() - self.t0:.1f} s\n")
             self.stream.flush()
         if label != self.last_label:
             self.last_label = label

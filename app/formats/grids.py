@@ -243,6 +243,11 @@ def parse_esri_ascii(text: str, *, name: str = "<text>", crs: Crs = "local") -> 
         values = np.where(values == nodata, np.nan, values)
     x = origin[0] + dx * np.arange(ncols)
     y = origin[1] + dy * np.arange(nrows)
+    for axis, c in (("x", x), ("y", y)):
+        # a huge origin with a small cell size overflows or stops increasing in floating point
+        if not np.all(np.isfinite(c)) or np.any(np.diff(c) <= 0):
+            raise GridError(name, f"{axis} coordinates from the origin and cell size overflow or do not increase",
+                            line=data_line)  # fmt: skip
     return GridData(values=values, x=x, y=y, crs=crs, source=name)
 
 

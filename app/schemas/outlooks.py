@@ -122,6 +122,11 @@ class Step(_Model):
     observed_at: datetime | None = Field(
         default=None, description="observation the arrival forecast mostly comes from"
     )
+    directional_estimate: str | None = Field(
+        default=None,
+        description="how the offshore E(f, θ) was obtained: 'given' (the source's own), 'cos-2s moment fit', "
+        "'maximum entropy', or a mix naming the bands with two peaks (docs/directional.md)",
+    )
     breaker_height_m: HeightClasses | None = None
     breaker_height_ft: HeightClasses | None = None
     period_s: float | None

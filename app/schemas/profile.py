@@ -51,6 +51,11 @@ class BreakPointSpec(_Strict):
 
 
 class ModelSpec(_Strict):
+    method: Literal["rays", "refraction-diffraction"] = Field(
+        default="rays",
+        description="How tables are computed: backward rays, or a parabolic refraction-diffraction march "
+        "with rays beyond its angle limit (docs/refraction-diffraction.md).",
+    )
     reference_depth_m: float = Field(default=10.0, gt=0, le=100)
     smoothing_m: float | None = Field(default=None, ge=0, le=5000)
     direction_bin_deg: float = Field(default=2.0, gt=0, le=15)

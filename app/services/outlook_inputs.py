@@ -4,10 +4,13 @@ Each of the spot's sources: model forecast spectra (with an issue time) from the
 used directly ("model-forecast"). Observations from a station are carried to the spot by each
 component's deep-water group delay (`models.propagation.shift_to_spot`), a short-range forecast
 ("arrival-forecast"; "observed" when the station is at the spot). Where several inputs cover a
-time, observed > arrival-forecast > model-forecast. Buoy coefficients become E(f, θ) by the maximum
-entropy method (MEM, Lygre & Krogstad 1986) on 5° bins: a narrow swell stays narrow, so sheltering
-by a headland is not smeared into the open part of the window; MEM's occasional split of one peak
-in two is merged back by the partitioning (Hanson & Phillips closeness rule).
+time, observed > arrival-forecast > model-forecast. Buoy coefficients become E(f, θ) on 5° bins by
+`models.directional.estimate_directional` (docs/directional.md): each printed coefficient read as an
+interval of ± half its resolution, inconsistent sets moved into the admissible region, a cos-2s
+fitted to the moments where one peak fits the data (a narrow swell stays narrow, so sheltering by a
+headland or an island is not smeared into the open part of the window) and maximum entropy (Lygre
+& Krogstad 1986) only where the data show two peaks. Each step names its estimate
+(`directional_estimate`); projected and interpolated bands are summed up in the notes.
 """
 
 from __future__ import annotations
@@ -26,14 +29,14 @@ from sqlalchemy.orm import Session
 from app.db.tables import Observation, Source, Spot
 from app.errors import BadInput, Conflict
 from app.services.tables import load_table
+from models.directional import DirectionalEstimate, estimate_directional
 from models.hazard import HazardPolicy
 from models.offshore import OffshoreBatch, prepare_offshore
 from models.propagation import great_circle_distance, initial_bearing, shift_to_spot
-from models.spectra import directional_spectrum_from_coefficients
 from models.surf import PointSetup
 
 COEFFICIENT_DIRECTIONS_DEG = np.arange(0.0, 360.0, 5.0)
-DIRECTIONAL_METHOD = "mem"
+GIVEN_ESTIMATE = "given"  # the source's own E(f, θ)
 MIN_SLOPE = 0.005  # a flat bottom at a break point uses this slope (Weggel's fit needs m > 0)
 # An arrival step is used only when its spectrum is (nearly) whole: at least this share of the latest
 # observation's arriving energy lies in components whose emission time is inside the observed span.
@@ -188,36 +191,82 @@ def candidates(session: Session, spot: Spot, start: datetime, end: datetime) -> 
     return sorted(keep, key=lambda r: (r.source_id, r.issue_time is not None, r.time, r.id))
 
 
-def efth_of(rec: Any) -> tuple[NDArray[np.float64], NDArray[np.float64]] | None:
-    """(directions, efth) of a record: its own E(f, θ), else MEM from the buoy coefficients."""
+def estimate_of(
+    rec: Any,
+) -> tuple[NDArray[np.float64], NDArray[np.float64], str, DirectionalEstimate | None] | None:
+    """(directions, efth, estimate label, estimate) of a record: its own E(f, θ) ("given"), else the
+    directional estimate from its buoy coefficients; None when it has neither."""
     if rec.efth is not None and rec.directions_deg is not None:
-        return np.asarray(rec.directions_deg, dtype=float), np.clip(
-            np.asarray(rec.efth, dtype=float), 0.0, None
-        )
+        d = np.asarray(rec.directions_deg, dtype=float)
+        return d, np.clip(np.asarray(rec.efth, dtype=float), 0.0, None), GIVEN_ESTIMATE, None
     if rec.r1 is None:
         return None
     d = COEFFICIENT_DIRECTIONS_DEG
-    e = directional_spectrum_from_coefficients(
-        rec.frequency, rec.density, d, r1=rec.r1, r2=rec.r2, alpha1_deg=rec.alpha1_deg, alpha2_deg=rec.alpha2_deg,
-        method=DIRECTIONAL_METHOD,
-    )  # fmt: skip
-    return d, e
+    est = estimate_directional(
+        rec.frequency, d, r1=rec.r1, r2=rec.r2, alpha1_deg=rec.alpha1_deg, alpha2_deg=rec.alpha2_deg
+    )
+    e = np.asarray(rec.density, dtype=float)[:, None] * est.D
+    return d, e, est.label, est
 
 
-Record = tuple[Any, NDArray[np.float64], NDArray[np.float64]]  # (record, directions, efth)
+def efth_of(rec: Any) -> tuple[NDArray[np.float64], NDArray[np.float64]] | None:
+    """(directions, efth) of a record (see `estimate_of`)."""
+    got = estimate_of(rec)
+    return None if got is None else (got[0], got[1])
 
 
-def records(session: Session, ids: Sequence[int], notes: list[str]) -> list[Record]:
-    """The stored spectra `ids` in time order; one that cannot be read is left out with a note."""
+Record = tuple[Any, NDArray[np.float64], NDArray[np.float64], str]  # (record, directions, efth, estimate)
+
+
+class _EstimateTally:
+    """Per source: which directional estimates were used and how many bands were repaired."""
+
+    def __init__(self) -> None:
+        self.labels: dict[str, int] = {}
+        self.projected = self.within = self.interpolated = self.spectra_interp = 0
+
+    def add(self, label: str, est: DirectionalEstimate | None) -> None:
+        if est is None:
+            return
+        self.labels[label] = self.labels.get(label, 0) + 1
+        self.projected += int(est.projected.sum())
+        self.within += int((est.projected & est.within_resolution).sum())
+        n = int(est.interpolated.sum())
+        self.interpolated += n
+        self.spectra_interp += int(n > 0)
+
+    def notes(self, source_id: str) -> list[str]:
+        if not self.labels:
+            return []
+        used = ", ".join(f"{k} in {v} spectra" for k, v in self.labels.items())
+        out = [f"source {source_id!r}: directional estimate from buoy coefficients (docs/directional.md): {used}"]
+        if self.projected:
+            out.append(
+                f"source {source_id!r}: {self.projected} band(s) with coefficients no distribution has "
+                f"(r2 < 2·r1² − 1 and the like) moved to the nearest admissible set, {self.within} of them "
+                "within the printed resolution (± half the last digit)"
+            )
+        if self.interpolated:
+            out.append(
+                f"source {source_id!r}: {self.interpolated} band(s) with missing coefficients in "
+                f"{self.spectra_interp} spectra interpolated from the neighbouring bands"
+            )
+        return out
+
+
+def records(session: Session, ids: Sequence[int], notes: list[str], source_id: str | None = None) -> list[Record]:
+    """The stored spectra `ids` in time order; one that cannot be read is left out with a note.
+    With `source_id`, a note sums up the directional estimates used."""
     from app.ingest.store import record_from_observation
 
     out = []
+    tally = _EstimateTally()
     for obs in session.scalars(
         select(Observation).where(Observation.id.in_(list(ids))).order_by(Observation.time)
     ):
         try:
             rec = record_from_observation(obs)
-            de = efth_of(rec)
+            de = estimate_of(rec)
         except (ValueError, BadInput) as exc:
             notes.append(f"observation {obs.id} ({obs.source_id} {obs.time.isoformat()}) left out: {exc}")
             continue
@@ -226,7 +275,10 @@ def records(session: Session, ids: Sequence[int], notes: list[str]) -> list[Reco
                 f"observation {obs.id} ({obs.source_id} {obs.time.isoformat()}) has no directions: left out"
             )
             continue
-        out.append((rec, *de))
+        tally.add(de[2], de[3])
+        out.append((rec, de[0], de[1], de[2]))
+    if source_id is not None:
+        notes.extend(tally.notes(source_id))
     return out
 
 
@@ -253,15 +305,18 @@ def batches(
     for source_id in dict.fromkeys(c.source_id for c in cands):
         src = session.get(Source, source_id)
         mine = [c for c in cands if c.source_id == source_id]
-        fc = one_grid(records(session, [c.id for c in mine if c.issue_time is not None], notes), source_id, notes)
+        fc_ids = [c.id for c in mine if c.issue_time is not None]
+        fc = one_grid(records(session, fc_ids, notes, source_id), source_id, notes)
         if fc:
             out.append(
                 prepare_offshore(
                     [r[0].time for r in fc], fc[0][0].frequency, fc[0][1], np.stack([r[2] for r in fc]),
                     source=source_id, kind="model-forecast", issued=fc[0][0].issue_time,
+                    estimate=[r[3] for r in fc],
                 )  # fmt: skip
             )
-        ob = one_grid(records(session, [c.id for c in mine if c.issue_time is None], notes), source_id, notes)
+        ob_ids = [c.id for c in mine if c.issue_time is None]
+        ob = one_grid(records(session, ob_ids, notes, source_id), source_id, notes)
         if not ob or src is None:
             continue
         times = [r[0].time for r in ob]
@@ -271,7 +326,8 @@ def batches(
             idx = [i for i, t in enumerate(times) if start <= t <= end]
             if idx:
                 out.append(prepare_offshore([times[i] for i in idx], f, d, e[idx], source=source_id, kind="observed",
-                                            observed_at=[times[i] for i in idx]))  # fmt: skip
+                                            observed_at=[times[i] for i in idx],
+                                            estimate=[ob[i][3] for i in idx]))  # fmt: skip
             continue
         bearing = float(initial_bearing(src.latitude, src.longitude, spot.latitude, spot.longitude))
         n = int((end - start).total_seconds() // 3600) + 1
@@ -292,6 +348,7 @@ def batches(
                     [targets[k] for k in keep], f, d, arr.efth[keep], source=source_id, kind="arrival-forecast",
                     observed_at=[times[int(arr.dominant_observation[k])] for k in keep],
                     coverage=[float(arr.energy_coverage[k]) for k in keep],
+                    estimate=[ob[int(arr.dominant_observation[k])][3] for k in keep],
                 )  # fmt: skip
             )
     return out
@@ -312,6 +369,6 @@ def select_inputs(found: list[OffshoreBatch]) -> list[OffshoreBatch]:
 
 
 __all__ = [
-    "Candidate", "WaterLevel", "aware", "batches", "candidates", "check_options", "efth_of", "floor_hour",
+    "Candidate", "WaterLevel", "aware", "batches", "candidates", "check_options", "efth_of", "estimate_of", "floor_hour",
     "one_grid", "policy_of", "records", "select_inputs", "spot_points", "water_key", "water_level_at",
 ]  # fmt: skip

@@ -193,6 +193,7 @@ def step_dicts(
                 issued=batch.issued,
                 observed_at=batch.observed_at[t] if batch.observed_at else None,
                 arrival_coverage=num(batch.coverage[t], 0.01) if batch.coverage else None,
+                directional_estimate=batch.estimate[t] if batch.estimate else None,
                 breaker_height_m=hc if units == "metric" else None,
                 breaker_height_ft=hc if units == "imperial" else None,
                 period_s=period[t],

@@ -14,7 +14,7 @@ imports run one way, top to bottom):
 - `app.services.outlook_cache`: stored outlooks, keys and single flight (`get_outlook`).
 
 Pipeline per spot and time step: inputs (observed > arrival-forecast > model-forecast);
-E(f, θ) (given, or MEM from buoy coefficients); swell trains (at most `MAX_TRAINS`); per break
+E(f, θ) (given, or the directional estimate from buoy coefficients, docs/directional.md); swell trains (at most `MAX_TRAINS`); per break
 point the table application on the whole spectrum and each train; breaking of each height class
 (typical = Hm0, sets = H1/10, largest = expected largest in an hour) by Weggel (1972); peel;
 hazard on the set breaker height where it is largest (`models.hazard`).

@@ -27,7 +27,7 @@ from app.db.tables import BreakPoint, Spot, TransferTableRow, utcnow
 from app.errors import BadInput, NotFound
 from app.observability import TABLE_BUILDS
 from app.services.spots import depth_grid_of
-from models import transfer
+from models import refdif, transfer
 from models.errors import InvalidInput
 
 __all__ = [
@@ -52,6 +52,7 @@ def point_options(spot: Spot, bp: BreakPoint) -> dict[str, Any]:
         "direction_bin_deg": float(m.get("direction_bin_deg", 2.0)),
         "launch_spacing_deg": float(m.get("launch_spacing_deg", 0.25)),
         "smoothing_m": m.get("smoothing_m"),
+        "method": str(m.get("method", "rays")),
         "reference_depth_m": float(bp.reference_depth_m),
         "break_x": float(bp.x),
         "break_y": float(bp.y),
@@ -174,14 +175,21 @@ def build_tables(
             ok.append(t)
         if not ok:
             continue
-        opts = {k: v for k, v in ok[0].options.items() if k not in ("reference_depth_m", "break_x", "break_y")}
+        opts = {k: v for k, v in ok[0].options.items() if k not in ("reference_depth_m", "break_x", "break_y", "method")}
         t_spot = time.perf_counter()
         try:
-            tables = transfer.build_tables(
-                grid, refs, executor=executor,
-                progress=(lambda done, total, _l=label: progress(_l, done, total)) if progress else None,
-                **opts,
-            )  # fmt: skip
+            if ok[0].options.get("method") == refdif.METHOD:
+                tables = refdif.build_tables(
+                    grid, refs, executor=executor,
+                    progress=(lambda done, total, what, _l=label: progress(f"{_l} {what}", done, total)) if progress else None,
+                    **opts,
+                )  # fmt: skip
+            else:
+                tables = transfer.build_tables(
+                    grid, refs, executor=executor,
+                    progress=(lambda done, total, _l=label: progress(_l, done, total)) if progress else None,
+                    **opts,
+                )  # fmt: skip
         except InvalidInput as exc:
             report.failed.extend({"spot": spot_id, "point": t.point_name, "reason": str(exc)} for t in ok)
             TABLE_BUILDS.inc(len(ok), outcome="failed")
@@ -191,7 +199,8 @@ def build_tables(
             _store(url, t, table, seconds=seconds, reference=(xr, yr))
             TABLE_BUILDS.inc(outcome="ok")
             report.built.append({"spot": spot_id, "point": t.point_name, "seconds": round(seconds, 2),
-                                 "lost_fraction": round(table.lost_fraction, 5)})
+                                 "lost_fraction": round(table.lost_fraction, 5),
+                                 "method": table.meta.get("method", "rays")})
     report.seconds = round(time.perf_counter() - t0, 2)
     return report
 

@@ -164,3 +164,53 @@ def test_validation_names_argument():
         partition_spectrum(F, D, e, wind_speed_m_s=5.0)
     with pytest.raises(InvalidInput, match="`kappa`"):
         partition_spectrum(F, D, e, kappa=-1.0)
+
+
+# --------------------------------------------------------------------------- from printed buoy coefficients
+
+
+def _from_printed(e_fine, d_fine):  # type: ignore[no-untyped-def]
+    """E(f, θ) on D from a spectrum's NDBC coefficients printed to two decimals / whole degrees
+    (models.directional.estimate_directional)."""
+    from models.directional import estimate_directional
+    from models.spectra import coefficients_from_spectrum, fourier_to_ndbc, frequency_spectrum
+
+    n = fourier_to_ndbc(*coefficients_from_spectrum(e_fine, d_fine))
+    est = estimate_directional(F, D, r1=np.round(n.r1, 2), r2=np.round(n.r2, 2),
+                               alpha1_deg=np.round(n.alpha1_deg), alpha2_deg=np.round(n.alpha2_deg))  # fmt: skip
+    return frequency_spectrum(e_fine, d_fine)[:, None] * est.D
+
+
+def test_a_unimodal_swell_from_buoy_coefficients_is_one_train():
+    # the issue's case: 2 m, 12 s from 270° with s = 10; maximum entropy split it into two trains
+    # near 245° and 295° (Lygre & Krogstad 1986 lobes at ±23.5°, docs/check-values.md #23)
+    d_fine = np.arange(0.0, 360.0, 0.5)
+    e_fine = jonswap(F, hs=2.0, tp=12.0)[:, None] * cos2s(d_fine, mean_dir_deg=270.0, s=10.0)[None, :]
+    r = partition_spectrum(F, D, _from_printed(e_fine, d_fine))
+    assert len(r.trains) == 1
+    t = r.trains[0]
+    assert t.hm0_m == pytest.approx(2.0, rel=0.01) and t.mean_direction_deg == pytest.approx(270.0, abs=1.0)
+    assert t.spread_deg == pytest.approx(24.43, abs=2.0)  # Kuik et al. 1988: √(2/11) rad
+
+
+@pytest.mark.parametrize("s", [20, 40, 75])
+def test_two_swells_60_degrees_apart_stay_two_trains(s):
+    # given E(f, θ): two swells of one period 60° apart (each s >= 20: two distinct peaks)
+    e = _train(2.0, 12.0, 240.0, s) + _train(1.5, 12.0, 300.0, s)
+    r = partition_spectrum(F, D, e)
+    assert len(r.trains) == 2
+    assert sorted(round(t.mean_direction_deg) for t in r.trains) == pytest.approx([240, 300], abs=3)
+
+
+def test_two_swells_60_degrees_apart_from_buoy_coefficients_stay_two_trains():
+    # printed coefficients describe one band at a time: swells of different periods 60° apart stay two
+    # trains (two swells of one period 60° apart are one lobe to four printed numbers; docs/directional.md)
+    d_fine = np.arange(0.0, 360.0, 0.5)
+    e_fine = (jonswap(F, hs=2.0, tp=14.0)[:, None] * cos2s(d_fine, mean_dir_deg=240.0, s=20.0)[None, :]
+              + jonswap(F, hs=1.5, tp=9.0)[:, None] * cos2s(d_fine, mean_dir_deg=300.0, s=20.0)[None, :])  # fmt: skip
+    r = partition_spectrum(F, D, _from_printed(e_fine, d_fine))
+    assert len(r.trains) == 2
+    a, b = r.trains
+    assert abs(1 / a.tp_s - 1 / 14) <= 2 * (F[1] - F[0]) and abs(1 / b.tp_s - 1 / 9) <= 2 * (F[1] - F[0])
+    assert a.mean_direction_deg == pytest.approx(240.0, abs=3.0)
+    assert b.mean_direction_deg == pytest.approx(300.0, abs=15.0)  # the overlap bands pull it toward the first

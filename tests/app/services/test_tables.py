@@ -17,11 +17,12 @@ from app.db.tables import TransferTableRow
 from app.services import tables as svc
 from models import breaking
 from models.errors import InvalidInput
+from models.waves import shoaling_coefficient
 
 SLOPE = 1 / 30
 
 
-def write_beach(folder: Path, *, depth_offset: float = 0.0, reference_depth: float = 8.0) -> Path:
+def write_beach(folder: Path, *, depth_offset: float = 0.0, reference_depth: float = 8.0, method: str = "rays") -> Path:
     """A west-facing planar beach, 3 km x 2 km at 50 m: depth = (x_shore - x)·slope, land east of x = 1400 m."""
     xs = -1575.0 + 50.0 * np.arange(60)
     depth = (1400.0 - xs) * SLOPE + depth_offset
@@ -46,6 +47,7 @@ name = "south"
 x = 1300.0
 y = -300.0
 [model]
+method = "{method}"
 reference_depth_m = {reference_depth}
 period_min_s = 8.0
 period_max_s = 14.0
@@ -159,3 +161,33 @@ def test_window_json_shape(beach: Path, migrated_db: str, capsys: pytest.Capture
     assert p["nearshore_direction_deg"][0][east] is None
     for a, b in p["open_arcs_deg"][0]:  # within the seaward half (one bin of grazing slack)
         assert 175.0 <= a < 360.0 and 175.0 < b <= 365.0
+
+
+def test_refraction_diffraction_switch_rebuilds_into_the_same_table(
+    beach: Path, migrated_db: str, tmp_path: Path
+) -> None:
+    # `[model] method` is part of the input hash; the refraction-diffraction table has the ray
+    # table's shape, and over this planar beach K at normal incidence is the shoaling coefficient
+    # (linear theory, SPM 1984 Vol. II App. C; deep-water normalised, as the grid starts above it)
+    build(migrated_db)
+    before = hashes(migrated_db)
+    with session_scope(migrated_db) as s:
+        shape = svc.load_table(s.scalars(select(TransferTableRow)).first()).coefficient.shape
+    write_beach(tmp_path, method="refraction-diffraction")
+    assert main(["spot", "add", str(beach)]) == 0
+    labels: list[str] = []
+    report = build(migrated_db, executor=None, progress=lambda label, done, total: labels.append(label))
+    assert len(report.built) == 2 and {b["method"] for b in report.built} == {"refraction-diffraction"}
+    assert any(lb.endswith("rays") for lb in labels)  # progress per stage and per component
+    assert any(" T 8 s (" in lb for lb in labels) and any(" T 14 s (" in lb for lb in labels)
+    after = hashes(migrated_db)
+    assert {h for h, _ in after.values()}.isdisjoint({h for h, _ in before.values()})
+    with session_scope(migrated_db) as s:
+        for row in s.scalars(select(TransferTableRow)):
+            t = svc.load_table(row)
+            assert t.meta["method"] == "refraction-diffraction"
+            assert t.coefficient.shape == shape
+            j = int(np.flatnonzero(t.directions_deg == 270.0)[0])
+            assert j in t.meta["refraction_diffraction_mask"][0]
+            ks = shoaling_coefficient(1.0 / t.periods_s, t.reference_depth_m)
+            assert t.coefficient[:, j] == pytest.approx(ks, rel=0.01)
