@@ -8,11 +8,14 @@ matrix product for all points, steps and trains), moments, breaking of three hei
 each train (one vectorised `shoal_to_breaking` for all spots), peel, hazard and the validated
 steps. The weights are built once per (table, spectral grid) and reported apart (a service
 builds them on its first outlook after a table changes). Two rows: the whole outlook, and its
-numerics without formatting the steps.
+numerics without formatting the steps. A third row: the same outlook with every table carrying a
+surf-zone profile (`models.surfzone`: each train across a plane-beach profile with Battjes &
+Janssen dissipation and set-up) against today's single-wave outlook (aim: at most 2x its time).
 """
 
 from __future__ import annotations
 
+import dataclasses
 import math
 import time
 from datetime import UTC, datetime, timedelta
@@ -29,6 +32,7 @@ from app.services.outlooks import (
 )
 from models.hazard import DEFAULT_POLICY
 from models.spectra import cos2s, jonswap
+from models.surfzone import SurfProfile
 from models.transfer import DEFAULT_PERIODS_S, TransferTable, _direction_matrix
 
 FREQ = np.linspace(0.04, 0.3, 40)
@@ -63,6 +67,20 @@ def _spots(n: int, rng: np.random.Generator) -> list[list[PointSetup]]:
         t = _table(rng)
         normal = float(np.nanmean(t.nearshore_direction_deg))
         out.append([PointSetup(f"s{i}", 0.0, 0.0, t, 2.0, float(rng.uniform(0.01, 0.05)), normal)])
+    return out
+
+
+def _with_profiles(spots: list[list[PointSetup]], rng: np.random.Generator) -> list[list[PointSetup]]:
+    """The same points, each table carrying a plane-beach profile from its 10 m reference depth."""
+    out = []
+    for pts in spots:
+        new = []
+        for p in pts:
+            m = p.slope
+            d = np.arange(0.0, 13.0 / m, 5.0)
+            prof = SurfProfile(d, 10.0 - m * d, (p.normal_deg + 180.0) % 360.0, 0.0, 0.0)
+            new.append(dataclasses.replace(p, table=dataclasses.replace(p.table, profile=prof)))
+        out.append(new)
     return out
 
 
@@ -120,6 +138,18 @@ def run(quick: bool = False) -> list[dict]:
     nearshore_points(batch, [p for pts in spots for p in pts])  # the table application + moments
     applied = time.perf_counter() - t
 
+    zspots = _with_profiles(spots, rng)
+    for pts in zspots:
+        for p in pts:
+            transfer_weights(p.table, batch.frequency, batch.directions)
+    t = time.perf_counter()
+    zarrays = compute_spots(batch, zspots)
+    znumeric = time.perf_counter() - t
+    t = time.perf_counter()
+    for pts, arr in zip(zspots, zarrays, strict=True):
+        build_steps(batch, pts, arr, DEFAULT_POLICY, "metric")
+    zours = znumeric + time.perf_counter() - t
+
     label = f"{n} spots x {nt} hourly steps, {stack.shape[1] - 1} trains, 1 point each"
     return [
         {
@@ -137,6 +167,14 @@ def run(quick: bool = False) -> list[dict]:
             "ratio": bare / numeric,
             "ratio_of": "outlook numerics steps/s / bare table-application steps/s",
             "target": ">= 0.3 (for the whole outlook)",
+        },
+        {
+            "benchmark": f"outlook with the surf-zone model ({label}, 64-node profiles)",
+            "result": f"{total / zours:,.0f} steps/s ({zours:.2f} s: numerics {znumeric:.2f} s) vs today's "
+            f"single-wave outlook {total / ours:,.0f} steps/s ({ours:.2f} s)",
+            "ratio": zours / ours,
+            "ratio_of": "surf-zone outlook time / single-wave outlook time",
+            "target": "<= 2",
         },
     ]
 

@@ -1,4 +1,4 @@
-"""Hazard levels 0..3 from an agency's policy: thresholds on set breaker height, period, wave power.
+"""Hazard levels 0..3 from an agency's policy: thresholds on what arrives at the spot.
 
 A policy is the agency's: it names its own labels and thresholds. `DEFAULT_POLICY` is only a
 default (neutral labels "level 0".."level 3", round-number thresholds chosen for this package,
@@ -10,6 +10,12 @@ threshold. With ``combine="any"`` (default) any one given criterion reaching its
 enough (long-period surges and powerful swell are hazards on their own); with ``combine="all"``
 every given criterion must hold. Thresholds are inclusive (``>=``) and must not decrease with
 level, so the levels are nested.
+
+Inputs are nearshore (what arrives at the spot, docs/surfzone.md §6): the sets breaker height, the
+nearshore peak period and wave power at the table's reference point, the rip-current likelihood
+(`rip_current_likelihood`) and the shore-break flag (`shore_break`). A sheltered spot's level is
+therefore not raised by offshore energy its swell window blocks. A policy may say
+``basis = "offshore"`` to test its period and power thresholds on the offshore values instead.
 
 Every hazard result carries `CAUTION`: this is guidance, and the agency's own procedures,
 lifeguards, official warnings and local rules decide.
@@ -37,6 +43,8 @@ __all__ = [
     "HazardSummary",
     "hazard_level",
     "hazard_summary",
+    "rip_current_likelihood",
+    "shore_break",
     "wave_power_deep_kw_m",
 ]
 
@@ -58,6 +66,11 @@ class HazardLevel:
     set_height_m: float | None = None
     period_s: float | None = None
     power_kw_m: float | None = None
+    rip_likelihood: float | None = None  # 0..1
+    shore_break: bool | None = None  # True: a shore-break step reaches this level
+
+
+_THRESHOLDS = ("set_height_m", "period_s", "power_kw_m", "rip_likelihood")
 
 
 @dataclass(frozen=True)
@@ -68,6 +81,7 @@ class HazardPolicy:
     levels: tuple[HazardLevel, ...]
     combine: str = "any"
     is_default: bool = False
+    basis: str = "nearshore"  # period and power thresholds on nearshore (default) or offshore values
 
     def __post_init__(self) -> None:
         _check_policy(self)
@@ -86,6 +100,14 @@ class HazardPolicy:
     def uses_power(self) -> bool:
         return any(lv.power_kw_m is not None for lv in self.levels)
 
+    @property
+    def uses_rip(self) -> bool:
+        return any(lv.rip_likelihood is not None for lv in self.levels)
+
+    @property
+    def uses_shore_break(self) -> bool:
+        return any(lv.shore_break for lv in self.levels)
+
     @classmethod
     def from_mapping(cls, data: Mapping[str, Any]) -> HazardPolicy:
         """Build from plain data (parsed TOML / JSON):
@@ -102,7 +124,7 @@ class HazardPolicy:
         for i, item in enumerate(raw):
             if not isinstance(item, Mapping):
                 raise InvalidInput(f"`policy.levels[{i}]` must be a table, got {type(item).__name__}")
-            unknown = set(item) - {"level", "label", "description", "set_height_m", "period_s", "power_kw_m"}
+            unknown = set(item) - {"level", "label", "description", *_THRESHOLDS, "shore_break"}
             if unknown:
                 raise InvalidInput(f"`policy.levels[{i}]` has unknown keys {sorted(unknown)}")
             try:
@@ -114,6 +136,8 @@ class HazardPolicy:
                         set_height_m=_opt_float(item.get("set_height_m")),
                         period_s=_opt_float(item.get("period_s")),
                         power_kw_m=_opt_float(item.get("power_kw_m")),
+                        rip_likelihood=_opt_float(item.get("rip_likelihood")),
+                        shore_break=_opt_bool(item.get("shore_break"), f"policy.levels[{i}].shore_break"),
                     )
                 )
             except KeyError:
@@ -125,6 +149,7 @@ class HazardPolicy:
             levels=tuple(levels),
             combine=str(data.get("combine", "any")),
             is_default=bool(data.get("is_default", False)),
+            basis=str(data.get("basis", "nearshore")),
         )
 
     def to_mapping(self) -> dict[str, Any]:
@@ -132,6 +157,7 @@ class HazardPolicy:
             "name": self.name,
             "combine": self.combine,
             "is_default": self.is_default,
+            "basis": self.basis,
             "levels": [
                 {k: v for k, v in vars(lv).items() if v is not None} for lv in self.levels
             ],
@@ -142,9 +168,17 @@ def _opt_float(v: Any) -> float | None:
     return None if v is None else float(v)
 
 
+def _opt_bool(v: Any, where: str) -> bool | None:
+    if v is None or isinstance(v, bool):
+        return v
+    raise InvalidInput(f"`{where}` must be true or false, got {v!r}")
+
+
 def _check_policy(p: HazardPolicy) -> None:
     if p.combine not in ("any", "all"):
         raise InvalidInput(f"`policy.combine` must be 'any' or 'all', got {p.combine!r}")
+    if p.basis not in ("nearshore", "offshore"):
+        raise InvalidInput(f"`policy.basis` must be 'nearshore' or 'offshore', got {p.basis!r}")
     if len(p.levels) != N_LEVELS:
         raise InvalidInput(f"`policy.levels` must list levels 0..3 (4 entries), got {len(p.levels)}")
     for i, lv in enumerate(p.levels):
@@ -153,17 +187,21 @@ def _check_policy(p: HazardPolicy) -> None:
             raise InvalidInput(f"`{where}.level` must be {i} (levels in order 0..3), got {lv.level!r}")
         if not lv.label.strip():
             raise InvalidInput(f"`{where}.label` must not be empty")
-        for name in ("set_height_m", "period_s", "power_kw_m"):
+        for name in (*_THRESHOLDS, "shore_break"):
             v = getattr(lv, name)
             if v is None:
                 continue
             if i == 0:
                 raise InvalidInput(f"`{where}.{name}`: level 0 takes no thresholds, got {v!r}")
+            if name == "shore_break":
+                continue
             if not (math.isfinite(v) and v >= 0):
                 raise InvalidInput(f"`{where}.{name}` must be finite and >= 0, got {v!r}")
+            if name == "rip_likelihood" and v > 1:
+                raise InvalidInput(f"`{where}.rip_likelihood` is a probability (0..1), got {v!r}")
         if i >= 1 and lv.set_height_m is None:
             raise InvalidInput(f"`{where}.set_height_m` is required for levels 1..3")
-    for name in ("set_height_m", "period_s", "power_kw_m"):
+    for name in _THRESHOLDS:
         prev = -math.inf
         for i in range(1, N_LEVELS):
             v = getattr(p.levels[i], name)
@@ -182,11 +220,13 @@ DEFAULT_POLICY = HazardPolicy(
     is_default=True,
     levels=(
         HazardLevel(0, "level 0", "default: small breakers at the spot"),
-        HazardLevel(1, "level 1", "default: moderate breakers (sets from 1 m)", set_height_m=1.0),
-        HazardLevel(2, "level 2", "default: large breakers (sets from 2 m)", set_height_m=2.0),
+        HazardLevel(1, "level 1", "default: moderate breakers (sets from 1 m) or rip currents likely (from 0.4)",
+                    set_height_m=1.0, rip_likelihood=0.4),
+        HazardLevel(2, "level 2", "default: large breakers (sets from 2 m), rip currents very likely (from 0.7) "
+                    "or a shore-break", set_height_m=2.0, rip_likelihood=0.7, shore_break=True),
         HazardLevel(3, "level 3", "default: very large breakers (sets from 3.5 m)", set_height_m=3.5),
     ),
-)
+)  # fmt: skip
 
 
 def _series(x: ArrayLike | None, name: str, needed: bool) -> NDArray[np.float64] | None:
@@ -207,6 +247,9 @@ def hazard_level(
     set_height_m: ArrayLike,
     period_s: ArrayLike | None = None,
     power_kw_m: ArrayLike | None = None,
+    *,
+    rip_likelihood: ArrayLike | None = None,
+    shore_break: ArrayLike | None = None,
 ) -> NDArray[np.int8]:
     """Hazard level 0..3 per element (inputs broadcast together).
 
@@ -216,20 +259,27 @@ def hazard_level(
     set_height_m : set breaker height H1/10 at breaking [m]
     period_s : peak (or the policy's stated) period [s]; required if the policy has period thresholds
     power_kw_m : wave power [kW/m]; required if the policy has power thresholds
+    rip_likelihood : 0..1 (`rip_current_likelihood`); without it rip thresholds are not tested
+    shore_break : bool flags (`shore_break`); without them shore-break levels are not tested
     """
     if not isinstance(policy, HazardPolicy):
         raise InvalidInput(f"`policy` must be a HazardPolicy, got {type(policy).__name__}")
     h = _series(set_height_m, "set_height_m", True)
     t = _series(period_s, "period_s", policy.uses_period)
     p = _series(power_kw_m, "power_kw_m", policy.uses_power)
+    r = _series(rip_likelihood, "rip_likelihood", False)  # not given: those criteria are not tested
+    sb = None if shore_break is None else np.asarray(shore_break, dtype=bool)
+    given = [a for a in (h, t, p, r, sb) if a is not None]
     try:
-        arrays = np.broadcast_arrays(*[a for a in (h, t, p) if a is not None])
+        arrays = np.broadcast_arrays(*given)
     except ValueError as exc:
-        raise InvalidInput(f"`set_height_m`, `period_s`, `power_kw_m` shapes do not broadcast: {exc}") from None
+        raise InvalidInput(f"the hazard inputs' shapes do not broadcast: {exc}") from None
     h = arrays[0]
     rest = iter(arrays[1:])
     t = next(rest) if t is not None else None
     p = next(rest) if p is not None else None
+    r = next(rest) if r is not None else None
+    sb = next(rest) if sb is not None else None
     level = np.zeros(h.shape, dtype=np.int8)
     for lv in policy.levels[1:]:
         tests = [h >= lv.set_height_m]
@@ -237,10 +287,86 @@ def hazard_level(
             tests.append(t >= lv.period_s)
         if lv.power_kw_m is not None:
             tests.append(p >= lv.power_kw_m)
+        if lv.rip_likelihood is not None and r is not None:
+            tests.append(r >= lv.rip_likelihood)
+        if lv.shore_break and sb is not None:
+            tests.append(sb)
         hit = np.logical_or.reduce(tests) if policy.combine == "any" else np.logical_and.reduce(tests)
         # nested thresholds: a higher level reached overrides the lower one
         level[hit] = lv.level
     return level
+
+
+# Rip-current likelihood: the logistic form and predictors of Dusek & Seim (2013, "A probabilistic
+# rip current forecast model", J. Coastal Res. 29(4), 909-925): nearshore significant height, the
+# mean wave direction to the shore normal and the tidal elevation. The coefficients below are NOT
+# the paper's fitted values (we had no copy to take them from): shoalcast's placeholders, chosen
+# from memory of the paper's findings (likelihood rises with height from about 1 m, is highest for
+# shore-normal waves and at low water). Replace them with the paper's before relying on the number;
+# an agency can also set its own (`RipModel`). The paper's post-event-window predictor is left out.
+@dataclass(frozen=True)
+class RipModel:
+    intercept: float = -5.0
+    per_height_m: float = 2.2  # per metre of nearshore Hs
+    per_angle_deg: float = -0.06  # per degree of |mean direction - shore normal|
+    per_water_m: float = -0.8  # per metre of water level above the period's mean (low water: more rips)
+    source: str = "logistic form of Dusek & Seim (2013); placeholder coefficients from memory, not the paper's"
+
+
+RIP_MODEL = RipModel()
+
+
+def rip_current_likelihood(
+    nearshore_hs_m: ArrayLike,
+    angle_to_normal_deg: ArrayLike,
+    water_anomaly_m: ArrayLike = 0.0,
+    *,
+    model: RipModel = RIP_MODEL,
+) -> NDArray[np.float64]:
+    """P(hazardous rip currents) = 1 / (1 + exp(-z)), z = b0 + b1 Hs + b2 |θ| + b3 η' (see
+    `RipModel`); NaN inputs (nothing arrives) give 0."""
+    hs = np.nan_to_num(np.asarray(nearshore_hs_m, dtype=float), nan=0.0)
+    th = np.abs(np.nan_to_num(np.asarray(angle_to_normal_deg, dtype=float), nan=90.0))
+    eta = np.nan_to_num(np.asarray(water_anomaly_m, dtype=float), nan=0.0)
+    if np.any(hs < 0):
+        raise InvalidInput("`nearshore_hs_m` must be >= 0")
+    z = model.intercept + model.per_height_m * hs + model.per_angle_deg * np.minimum(th, 90.0) + model.per_water_m * eta
+    return np.where(hs > 0, 1.0 / (1.0 + np.exp(-z)), 0.0)
+
+
+STEEP_FORESHORE = 0.1  # tan β from which a foreshore counts as steep (1:10, common practice)
+NEAR_HIGH_WATER = 0.75  # the top quarter of the period's water-level range counts as near high water
+MIN_SHORE_BREAK_M = 0.5  # sets breakers smaller than this are not flagged
+
+
+def near_high_water(water_level_m: ArrayLike, *, min_range_m: float = 0.05) -> NDArray[np.bool_]:
+    """True in the top quarter of the series' range; all True when it hardly varies (no tide known:
+    high water cannot be ruled out)."""
+    w = np.asarray(water_level_m, dtype=float)
+    lo, hi = float(np.min(w)), float(np.max(w))
+    if hi - lo < min_range_m:
+        return np.ones(w.shape, dtype=bool)
+    return w >= lo + NEAR_HIGH_WATER * (hi - lo)
+
+
+def shore_break(
+    sets_height_m: ArrayLike,
+    period_s: ArrayLike,
+    foreshore_slope: ArrayLike,
+    high_water: ArrayLike,
+    *,
+    g: float = G,
+) -> NDArray[np.bool_]:
+    """Shore-break flag: breakers plunging or collapsing on a steep foreshore near high water
+    (common practice). Type from the Iribarren number on the foreshore slope, ξ = tan β/√(H/L0)
+    >= 0.4 (Battjes 1974), tan β >= STEEP_FORESHORE, sets >= MIN_SHORE_BREAK_M. NaN -> False."""
+    H = np.asarray(sets_height_m, dtype=float)
+    T = np.asarray(period_s, dtype=float)
+    b = np.asarray(foreshore_slope, dtype=float)
+    ok = np.isfinite(H) & np.isfinite(T) & np.isfinite(b) & (H >= MIN_SHORE_BREAK_M) & (T > 0)
+    L0 = g * np.where(ok, T, 1.0) ** 2 / (2.0 * math.pi)
+    xi = np.where(ok, np.where(ok, b, 0.0) / np.sqrt(np.where(ok, H, 1.0) / L0), 0.0)
+    return ok & (b >= STEEP_FORESHORE) & (xi >= 0.4) & np.asarray(high_water, dtype=bool)
 
 
 class HazardSummary(NamedTuple):

@@ -3,8 +3,9 @@
 A component of frequency f travelling TOWARD direction φ (nautical FROM direction + 180°) that a
 station sees at time t reaches a spot displaced by the vector d from the station at
 t + (d · ê_φ) / Cg(f), with deep-water Cg = g/(4π f) = gT/(4π) (Munk 1947; Snodgrass et al. 1966,
-who used great-circle distances). Components with d · ê_φ < 0 travel away from the spot: they do
-not arrive (the spot sees them before the station does). Long periods travel faster and arrive first.
+who used great-circle distances). The delay is signed: with d · ê_φ < 0 the component passes the spot
+first (the station is downstream), so the spot at t sees what the station sees at t + |Δt| — a
+hindcast from later observations, available only once they are made. Long periods travel faster.
 
 Distances: `great_circle_distance` is the haversine formula on a sphere of radius
 `EARTH_MEAN_RADIUS_M` = 6 371 008.8 m (IUGG mean radius R1, from memory); the sphere differs from
@@ -97,8 +98,8 @@ def arrival_delay(
     """Delay [s] from station to spot per component, shape (nf, nd).
 
     `directions_deg` are nautical FROM directions; `bearing_deg` is the direction from the station
-    to the spot (clockwise from north) and `distance_m` its length. Components travelling away
-    from the spot (projection < 0) get ``np.inf``: they never arrive.
+    to the spot (clockwise from north) and `distance_m` its length. The delay is signed: negative
+    where the component passes the spot before the station (projection < 0).
     """
     f = np.atleast_1d(_finite(frequency_hz, "frequency_hz"))
     d = np.atleast_1d(_finite(directions_deg, "directions_deg"))
@@ -112,29 +113,28 @@ def arrival_delay(
     # travel TOWARD from+180; projection of the station->spot vector on that direction
     along = distance_m * np.cos((d + 180.0 - bearing_deg) * DEG)
     along = np.where(np.abs(along) < 1e-9 * max(distance_m, 1.0), 0.0, along)  # exact 90°: passes by
-    with np.errstate(divide="ignore"):
-        delay = along[None, :] / cg[:, None]
-    return np.where(along[None, :] >= 0, delay, np.inf)
+    return along[None, :] / cg[:, None]
 
 
 class SpotArrival(NamedTuple):
     """Station spectra carried to the spot on the requested time grid.
 
     efth[k, i, j] is the spot spectrum at target_times[k] (m²/Hz/rad, the station's units), zero where
-    the component does not arrive or where its emission time lies outside the observations.
+    the station's time for it (target − delay) lies outside the observations.
     """
 
     times: list[Any]  # the requested target times, as given
     efth: NDArray[np.float64]  # (nt_out, nf, nd)
-    delay_s: NDArray[np.float64]  # (nf, nd); inf = never arrives
-    available: NDArray[np.bool_]  # (nt_out, nf, nd): arriving and inside the observation span
+    delay_s: NDArray[np.float64]  # (nf, nd) signed: < 0 where the spot sees the component first
+    available: NDArray[np.bool_]  # (nt_out, nf, nd): station time inside the observation span
     source_position: NDArray[np.float64]  # (nt_out, nf, nd) fractional observation index; -1 if unavailable
     first_observation: NDArray[np.int64]  # (nt_out,) earliest observation index used (-1: none)
     last_observation: NDArray[np.int64]  # (nt_out,) latest observation index used (-1: none)
     dominant_observation: NDArray[np.int64]  # (nt_out,) observation nearest the most energetic component
-    coverage: NDArray[np.float64]  # (nt_out,) fraction of arriving (f, θ) cells available
-    # (nt_out,) energy-weighted coverage: the share of the latest observation's arriving energy
-    # (E Δf over arriving cells) in the cells available at each target time; 0 when none arrives
+    coverage: NDArray[np.float64]  # (nt_out,) fraction of (f, θ) cells available
+    awaiting: NDArray[np.bool_]  # (nt_out,) some component needs a station time after the last observation
+    # (nt_out,) energy-weighted coverage: the share of the latest observation's energy (E Δf over every
+    # component, upstream and downstream alike) in the cells available at each target time
     energy_coverage: NDArray[np.float64]
 
 
@@ -151,10 +151,10 @@ def shift_to_spot(
 ) -> SpotArrival:
     """Turn station observations (nt, nf, nd) into spectra at the spot at `target_times`.
 
-    For each component the spot at time τ sees what the station saw at τ − delay(f, θ); that value
-    is interpolated linearly between the two bracketing observations (in time). Outside the
-    observed span, or for components that never arrive, the component is unavailable (zero energy,
-    ``available`` False) — it is not extrapolated.
+    For each component the spot at time τ sees what the station saw at τ − delay(f, θ) (later than τ
+    when the delay is negative: the station is downstream); that value is interpolated linearly
+    between the two bracketing observations (in time). Outside the observed span the component is
+    unavailable (zero energy, ``available`` False) — it is not extrapolated.
     """
     ts, _ = to_seconds(times, "times", allow_empty=True)
     tt, t_items = to_seconds(target_times, "target_times", allow_empty=True)
@@ -173,8 +173,8 @@ def shift_to_spot(
         idx = tuple(int(i) for i in np.argwhere(bad)[0])
         raise InvalidInput(f"`efth` must be finite and >= 0, got {e[idx]!r} at index {idx}")
 
-    emit = tt[:, None, None] - delay[None, :, :]  # emission time at the station; -inf if never arrives
-    arriving = np.isfinite(delay)
+    emit = tt[:, None, None] - delay[None, :, :]  # the station's time for the component (signed delay)
+    arriving = np.isfinite(delay)  # every component: upstream and downstream
     # exact float comparison at the ends: an emission time equal to an observation time is available
     available = arriving[None] & (emit >= ts[0]) & (emit <= ts[-1])
     if ts.size == 1:
@@ -208,6 +208,7 @@ def shift_to_spot(
         last_observation=last.astype(np.int64),
         dominant_observation=dominant.astype(np.int64),
         coverage=flat_av.sum(axis=1) / n_arr,
+        awaiting=np.any(arriving[None] & (emit > ts[-1]), axis=(1, 2)),
         energy_coverage=_energy_coverage(frequency_hz, e[-1], arriving, available),
     )
 

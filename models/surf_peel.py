@@ -106,10 +106,16 @@ def step_peel(
         for i in idx:
             p = points[i]
             tt, from_ref = crest_at_reference(p.table, offshore_tp, offshore_dir)
-            # the breaking position: from the break point along the seaward normal to the breaking depth
-            dist = (float(db[i]) - (p.depth_m + wl)) / p.slope
-            b = math.radians(p.normal_deg)
-            xb, yb = p.x + dist * math.sin(b), p.y + dist * math.cos(b)
+            bd = float(arr.break_distance[i, step]) if arr.break_distance is not None else math.nan
+            if math.isfinite(bd) and p.table.profile is not None:
+                # surf-zone path: the breaking position on the point's profile (models.surfzone)
+                b = math.radians(p.table.profile.bearing_deg)
+                xb, yb = p.table.reference_x + bd * math.sin(b), p.table.reference_y + bd * math.cos(b)
+            else:
+                # the breaking position: from the break point along the seaward normal to the breaking depth
+                dist = (float(db[i]) - (p.depth_m + wl)) / p.slope
+                b = math.radians(p.normal_deg)
+                xb, yb = p.x + dist * math.sin(b), p.y + dist * math.cos(b)
             xs.append(xb)
             ys.append(yb)
             if not math.isfinite(tt):

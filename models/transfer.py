@@ -50,6 +50,7 @@ from models.bathymetry import DepthGrid
 from models.constants import G
 from models.errors import InvalidInput
 from models.rays import BLOCKED, EDGES, LOST, OPEN, trace_rays
+from models.surfzone import SurfProfile, extract_profile, profile_bearing
 from models.waves import group_velocity, phase_speed
 
 __all__ = [
@@ -65,7 +66,7 @@ __all__ = [
     "swell_window",
 ]
 
-ENGINE_VERSION = "shoalcast-rays-2"
+ENGINE_VERSION = "shoalcast-rays-3"  # 3: tables carry the surf-zone depth profile (models.surfzone)
 
 # 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
 DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
@@ -95,6 +96,10 @@ class TransferTable:
     open_fraction             fraction of the bin's width covered by rays that reach the point
     lost_fraction             rays that used up the step budget / all rays (by period in
                               `lost_fraction_by_period`)
+    profile                   the bed from the reference point to the shore along the direction the
+                              arriving energy travels (`models.surfzone`), sampled once from the
+                              grid the rays saw; None when there is none (nothing arrives, no shore
+                              on the line, or a table from before engine 3)
     """
 
     periods_s: NDArray[np.float64]
@@ -110,6 +115,7 @@ class TransferTable:
     reference_y: float
     lost_fraction: float
     meta: dict[str, Any] = field(default_factory=dict)
+    profile: SurfProfile | None = None
 
     @property
     def direction_bin_deg(self) -> float:
@@ -132,6 +138,8 @@ class TransferTable:
         }
         out.update({k: float(getattr(self, k)) for k in _SCALARS})
         out["meta_json"] = json.dumps(self.meta, sort_keys=True, default=float)
+        if self.profile is not None:
+            out.update(self.profile.to_arrays())
         return out
 
     @classmethod
@@ -147,6 +155,7 @@ class TransferTable:
         kw: dict[str, Any] = {k: np.asarray(data[k], dtype=float) for k in names[:8]}
         kw.update({k: float(data[k]) for k in _SCALARS})
         kw["meta"] = json.loads(data.get("meta_json", "{}"))
+        kw["profile"] = SurfProfile.from_arrays(data)
         t = cls(**kw)
         npd = (t.periods_s.size, t.directions_deg.size)
         for k in names[2:7]:
@@ -562,6 +571,15 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         "rays_by_period": cat["n_rays"].astype(int).tolist(),
     }
     lost = cat["lost_fraction_by_period"]
+    profile = None
+    bearing = profile_bearing(cat["coefficient"], cat["nearshore_direction_deg"])
+    if bearing is None:
+        meta["profile_note"] = "no surf-zone profile: nothing arrives at the reference point"
+    else:
+        try:
+            profile = extract_profile(sg, x_ref, y_ref, bearing)
+        except InvalidInput as exc:
+            meta["profile_note"] = f"no surf-zone profile: {exc}"
     return TransferTable(
         periods_s=periods,
         directions_deg=width * np.arange(nd),
@@ -576,6 +594,7 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         reference_y=y_ref,
         lost_fraction=float(lost.mean()),
         meta=meta,
+        profile=profile,
     )
 
 

@@ -509,6 +509,10 @@ def _profile_toml(spot: DemoSpot, points, sources) -> str:
     lines += ["", "[model]", f"reference_depth_m = {spot.reference_depth_m:.1f}",
               f"period_min_s = {PERIOD_MIN_S:g}", f"period_max_s = {PERIOD_MAX_S:g}", f"period_count = {PERIOD_COUNT}",
               f"launch_spacing_deg = {LAUNCH_SPACING_DEG:g}", ""]
+    if spot.kind in ("point", "ridge"):
+        # their swell bends round the point or converges over the salient inside the reference depth,
+        # which the 1-D surf-zone profile does not follow (docs/surfzone.md §1): single-wave path
+        lines.insert(-1, "surf_zone = false")
     return "\n".join(lines)
 
 

@@ -20,14 +20,19 @@ class LevelSpec(BaseModel):
     set_height_m: float | None = Field(default=None, ge=0, le=30)
     period_s: float | None = Field(default=None, ge=0, le=40)
     power_kw_m: float | None = Field(default=None, ge=0, le=10000)
+    rip_likelihood: float | None = Field(default=None, ge=0, le=1, description="rip-current likelihood 0..1")
+    shore_break: bool | None = Field(default=None, description="true: a shore-break reaches this level")
 
 
 class PolicySpec(BaseModel):
-    """Levels 0..3 with the agency's own labels; thresholds on set breaker height, optionally period and power."""
+    """Levels 0..3 with the agency's own labels; thresholds on set breaker height, optionally period,
+    power, rip-current likelihood and shore-break; period and power on nearshore values unless
+    `basis` is "offshore" (docs/surfzone.md §6)."""
 
     model_config = ConfigDict(extra="forbid", frozen=True)
 
     combine: Literal["any", "all"] = "any"
+    basis: Literal["nearshore", "offshore"] = "nearshore"
     levels: list[LevelSpec] = Field(min_length=4, max_length=4)
 
 

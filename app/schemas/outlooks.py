@@ -60,6 +60,15 @@ class Hazard(_Model):
     label: str
     policy: str
     policy_is_default: bool
+    rip_current_likelihood: float | None = Field(
+        default=None, description="0..1, logistic form of Dusek & Seim (2013); placeholder coefficients"
+    )
+    shore_break: bool | None = Field(
+        default=None, description="breakers plunging or collapsing on a steep foreshore near high water"
+    )
+    inputs: Literal["nearshore", "offshore"] | None = Field(
+        default=None, description="what the policy's period and power thresholds were tested on"
+    )
 
 
 class Swell(_Model):
@@ -100,6 +109,24 @@ class PointDetail(_Model):
     )
     iribarren: float | None
     breaker_type: str | None
+    surf_model: Literal["surf-zone", "single-wave"] | None = Field(
+        default=None, description="surf-zone: random waves along the point's profile (docs/surfzone.md)"
+    )
+    breaking_distance_m: float | None = Field(
+        default=None, description="breaking position along the profile, from the reference point"
+    )
+    setup_m: float | None = Field(default=None, description="wave set-up at the shoreline")
+    runup_2pct_m: float | None = Field(default=None, description="2 % run-up (Stockdon et al. 2006)")
+
+
+class SurfZone(_Model):
+    """The surf-zone model's values at the step's point (null on the single-wave path)."""
+
+    model: Literal["surf-zone", "single-wave"]
+    breaking_distance_m: float | None = Field(description="breaking position along the profile from the reference point")
+    setup_m: float | None = Field(description="wave set-up at the shoreline (Longuet-Higgins & Stewart 1964)")
+    runup_2pct_m: float | None = Field(description="2 % exceedance run-up (Stockdon et al. 2006)")
+    foreshore_slope: float | None = Field(description="tan β about the still-water line")
 
 
 class Offshore(_Model):
@@ -135,6 +162,7 @@ class Step(_Model):
     breaking_depth_m: float | None = None
     iribarren: float | None = None
     largest_point: str | None = None
+    surf_zone: SurfZone | None = None
     peel: Peel
     hazard: Hazard
     offshore: Offshore
@@ -206,10 +234,16 @@ class SpotHazard(_Model):
     valid_until: datetime | None
     policy: str | None = None
     policy_is_default: bool | None = None
+    rip_current_likelihood: float | None = Field(default=None, description="at the current step (0..1)")
+    max_rip_current_likelihood: float | None = Field(default=None, description="highest in the horizon")
+    shore_break: bool | None = Field(default=None, description="shore-break at the current step")
+    shore_break_onset: datetime | None = Field(
+        default=None, description="first step in the horizon with a shore-break (null: none)"
+    )
     note: str | None = None
     cautions: list[str]
 
-    @field_serializer("onset", "valid_until")
+    @field_serializer("onset", "valid_until", "shore_break_onset")
     def _times(self, value: datetime | None) -> str | None:
         return _z(value)
 
@@ -238,6 +272,7 @@ __all__ = [
     "Peel",
     "PointDetail",
     "SpotHazard",
+    "SurfZone",
     "Step",
     "Swell",
     "Units",

@@ -63,6 +63,11 @@ class ModelSpec(_Strict):
     period_min_s: float = Field(default=4.0, gt=1, le=30)
     period_max_s: float = Field(default=25.0, gt=1, le=40)
     period_count: int = Field(default=32, ge=2, le=128)
+    surf_zone: bool = Field(
+        default=True,
+        description="random waves along each break point's profile (docs/surfzone.md); false: the single-wave "
+        "shoaling path, for breaks whose contours bend strongly inside the reference depth (the profile is 1-D)",
+    )
 
     @model_validator(mode="after")
     def _periods(self) -> ModelSpec:

@@ -23,12 +23,13 @@ def load_agency_toml(path: Path | str) -> AgencyConfig:
 
 
 def _checked(spec: PolicySpec, *, name: str, where: str) -> list[dict]:
-    data = {"name": name, "combine": spec.combine, "levels": [lv.model_dump(exclude_none=True) for lv in spec.levels]}
+    data = {"name": name, "combine": spec.combine, "basis": spec.basis,
+            "levels": [lv.model_dump(exclude_none=True) for lv in spec.levels]}  # fmt: skip
     try:
         Policy.from_mapping(data)  # nested thresholds, level order, labels
     except InvalidInput as exc:
         raise BadInput(f"{where}: {exc}", field=where) from exc
-    return [dict(d, combine=spec.combine) if i == 0 else d for i, d in enumerate(data["levels"])]
+    return [dict(d, combine=spec.combine, basis=spec.basis) if i == 0 else d for i, d in enumerate(data["levels"])]
 
 
 def set_policy(session: Session, agency_id: str, spec: PolicySpec, *, spot_id: str = "") -> None:
@@ -80,9 +81,10 @@ def list_agencies(session: Session) -> list[Agency]:
 
 
 def _policy_from_row(row: HazardPolicy, name: str) -> Policy:
-    levels = [{k: v for k, v in lv.items() if k != "combine"} for lv in row.levels]
+    levels = [{k: v for k, v in lv.items() if k not in ("combine", "basis")} for lv in row.levels]
     combine = row.levels[0].get("combine", "any") if row.levels else "any"
-    return Policy.from_mapping({"name": name, "combine": combine, "levels": levels})
+    basis = row.levels[0].get("basis", "nearshore") if row.levels else "nearshore"
+    return Policy.from_mapping({"name": name, "combine": combine, "basis": basis, "levels": levels})
 
 
 def policy_for(session: Session, agency_id: str | None, spot_id: str) -> Policy:
@@ -105,9 +107,10 @@ def policy_for(session: Session, agency_id: str | None, spot_id: str) -> Policy:
 def agency_public(session: Session, agency: Agency) -> AgencyPublic:
     policies = {}
     for row in session.scalars(select(HazardPolicy).where(HazardPolicy.agency_id == agency.id)):
-        levels = [{k: v for k, v in lv.items() if k != "combine"} for lv in row.levels]
+        levels = [{k: v for k, v in lv.items() if k not in ("combine", "basis")} for lv in row.levels]
         combine = row.levels[0].get("combine", "any") if row.levels else "any"
-        policies[row.spot_key] = PolicySpec(combine=combine, levels=levels)
+        basis = row.levels[0].get("basis", "nearshore") if row.levels else "nearshore"
+        policies[row.spot_key] = PolicySpec(combine=combine, basis=basis, levels=levels)
     return AgencyPublic(
         id=agency.id,
         name=agency.name,

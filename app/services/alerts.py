@@ -64,8 +64,18 @@ def _text(h: Any, key: str) -> Any:
 def alert_spec_of(
     *, identifier: str, sender: str, sent: datetime, msg_type: str, agency: Agency, spot: Spot, level: int,
     label: str, onset: datetime | None, expires: datetime, references: Sequence[Alert] = (), web: str | None = None,
+    rip: float | None = None, shore_break_onset: datetime | None = None,
 ) -> AlertSpec:
     cancel = msg_type == "Cancel"
+    params = {"shoalcast_level": str(level), "shoalcast_spot": spot.id}
+    extra = ""
+    if rip is not None:
+        params["shoalcast_rip_current_likelihood"] = f"{rip:.2f}"
+        extra += f" Rip-current likelihood up to {rip:.0%}."
+    params["shoalcast_shore_break"] = "true" if shore_break_onset is not None else "false"
+    if shore_break_onset is not None:
+        params["shoalcast_shore_break_onset"] = shore_break_onset.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+        extra += " Shore-break (breakers plunging on a steep beach near high water) expected."
     urgent = onset is None or onset <= sent + timedelta(hours=1)
     return AlertSpec(
         identifier=identifier,
@@ -85,11 +95,11 @@ def alert_spec_of(
         headline=(f"{EVENT} at {spot.name} has eased below {agency.name}'s alert level" if cancel
                   else f"{EVENT} at {spot.name}: {label} (level {level})"),
         description=(f"Forecast surf at {spot.name} is below level {agency.alert_level}." if cancel
-                     else f"Forecast surf at {spot.name} reaches {agency.name} level {level} ({label})."),
+                     else f"Forecast surf at {spot.name} reaches {agency.name} level {level} ({label}).{extra}"),
         instruction="Check the beach flags and ask lifeguards before entering the water.",
         area_desc=spot.name,
         circle=(round(spot.latitude, 6), round(spot.longitude, 6), AREA_RADIUS_KM),
-        parameters={"shoalcast_level": str(level), "shoalcast_spot": spot.id},
+        parameters=params,
         web=web,
     )
 
@@ -132,6 +142,7 @@ def sync_alerts(
             level=int(level if level is not None else 0), label=str(_text(h, "max_label") or ""),
             onset=onset, expires=expires, references=chain,
             web=f"{base_url.rstrip('/')}/v1/alerts/{identifier}" if base_url else None,
+            rip=_text(h, "max_rip_current_likelihood"), shore_break_onset=_text(h, "shore_break_onset"),
         )
         xml = build_cap(spec).decode("utf-8")
         if latest is not None:

@@ -1,7 +1,9 @@
 """Agency hazard summaries from cached outlooks: small, cheap to poll, with an ETag version.
 
 Per spot of the agency: the level now, the highest level in the horizon and when it starts
-(`models.hazard.hazard_summary`), valid until the last step or the next refresh, whichever is first.
+(`models.hazard.hazard_summary`), the rip-current likelihood now and its highest in the horizon,
+the shore-break flag now and its first step ahead; valid until the last step or the next refresh,
+whichever is first.
 """
 
 from __future__ import annotations
@@ -61,6 +63,10 @@ def agency_hazards(
         s = hazard_summary(times, [st.hazard.level for st in body.steps], horizon_hours=horizon, now=now)
         label = body.steps[s.onset_index].hazard.label
         i_cur = max(bisect.bisect_right(times, now) - 1, 0)  # as hazard_summary picks the current step
+        cur = body.steps[i_cur].hazard
+        ahead = [st.hazard for st in body.steps if now <= st.time <= now + timedelta(hours=horizon)] + [cur]
+        rips = [h.rip_current_likelihood for h in ahead if h.rip_current_likelihood is not None]
+        sb_times = [st.time for st in body.steps[i_cur:] if st.hazard.shore_break and st.time <= now + timedelta(hours=horizon)]
         spots.append(
             SpotHazard(
                 spot_id=spot_id,
@@ -73,6 +79,10 @@ def agency_hazards(
                 valid_until=min(times[-1], body.computed_at + refresh),
                 policy=body.policy,
                 policy_is_default=body.policy_is_default,
+                rip_current_likelihood=cur.rip_current_likelihood,
+                max_rip_current_likelihood=max(rips) if rips else None,
+                shore_break=cur.shore_break,
+                shore_break_onset=sb_times[0] if sb_times else None,
                 cautions=body.cautions,
             )
         )

@@ -19,7 +19,7 @@ from app.services.outlook_inputs import WaterLevel
 from app.services.outlook_steps import cautions_for
 from models.surf import compute_spots
 
-OUTLOOK_VERSION = "outlook-3"  # part of every cache key: bump when the computation changes
+OUTLOOK_VERSION = "outlook-4"  # part of every cache key: bump when the computation changes (4: surf-zone model)
 
 
 def compute_outlook(

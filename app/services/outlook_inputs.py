@@ -2,7 +2,8 @@
 
 Each of the spot's sources: model forecast spectra (with an issue time) from the latest issue are
 used directly ("model-forecast"). Observations from a station are carried to the spot by each
-component's deep-water group delay (`models.propagation.shift_to_spot`), a short-range forecast
+component's signed deep-water group delay (`models.propagation.shift_to_spot`; a component that passes
+the spot before the station is read from the station's later observation), a short-range forecast
 ("arrival-forecast"; "observed" when the station is at the spot). Where several inputs cover a
 time, observed > arrival-forecast > model-forecast. Buoy coefficients become E(f, θ) on 5° bins by
 `models.directional.estimate_directional` (docs/directional.md): each printed coefficient read as an
@@ -112,6 +113,7 @@ def spot_points(spot: Spot, notes: list[str] | None = None) -> list[PointSetup]:
 
     notes = notes if notes is not None else []
     grid = depth_grid_of(spot)
+    use_zone = bool((spot.profile or {}).get("model", {}).get("surf_zone", True))
     smoothed: dict[float, Any] = {}
     out = []
     for bp in spot.break_points:
@@ -132,7 +134,7 @@ def spot_points(spot: Spot, notes: list[str] | None = None) -> list[PointSetup]:
             )
             slope, normal = max(slope if math.isfinite(slope) else 0.0, MIN_SLOPE), float(spot.faces_deg)
         depth = float(geo.depth) if math.isfinite(float(geo.depth)) else float(bp.depth_m)
-        out.append(PointSetup(bp.name, float(bp.x), float(bp.y), table, depth, slope, normal % 360.0))
+        out.append(PointSetup(bp.name, float(bp.x), float(bp.y), table, depth, slope, normal % 360.0, use_zone))
     if not out:
         raise Conflict(
             f"spot {spot.id!r} has no transfer tables yet: build them with `shoalcast tables build {spot.id}` "
@@ -337,10 +339,12 @@ def batches(
         keep = [k for k in range(n) if whole[k] and arr.efth[k].max() > 0]
         partial = int(np.sum(~whole & (arr.energy_coverage > 0)))
         if partial:
+            waiting = int(np.sum(~whole & (arr.energy_coverage > 0) & arr.awaiting))
             notes.append(
                 f"source {source_id!r}: {partial} arrival hour(s) left out, under "
                 f"{ARRIVAL_MIN_ENERGY_COVERAGE:.0%} of the latest observation's energy observed "
                 "(the model forecast is used there when there is one)"
+                + (f"; {waiting} of them need observations not yet made" if waiting else "")
             )
         if keep:
             out.append(

@@ -22,8 +22,10 @@ from pydantic import TypeAdapter
 from app.cautions import HAZARD as HAZARD_CAUTIONS
 from app.schemas.outlooks import Step
 from app.services.outlook_numbers import deg, degs, grid, num, nums
+from models.breaking import wave_power
 from models.constants import FOOT
-from models.hazard import HazardPolicy, hazard_level
+from models.directions import wrap_180
+from models.hazard import HazardPolicy, hazard_level, near_high_water, rip_current_likelihood, shore_break
 from models.offshore import OffshoreBatch
 from models.peel import PeelResult
 from models.surf import MIN_HEIGHT_M, PointSetup, SpotArrays
@@ -116,14 +118,15 @@ def step_dicts(
     has = np.isfinite(sets)
     any_has = has.any(axis=0)  # (T,)
     set_max = np.maximum(np.where(any_has, np.max(np.where(has, sets, -np.inf), axis=0), 0.0), 0.0)
-    levels = hazard_level(
-        policy,
-        set_max,
-        period_s=np.nan_to_num(batch.tp, nan=0.0),
-        power_kw_m=np.nan_to_num(batch.power_kw_m, nan=0.0),
-    )
     ip = np.where(any_has, np.argmax(np.where(has, sets, -np.inf), axis=0), 0)  # (T,) point of the largest sets
     tt = np.arange(nt)
+    haz = hazard_inputs(batch, points, arr, ip, set_max, policy.basis)
+    levels = hazard_level(
+        policy, set_max, period_s=haz["period_s"], power_kw_m=haz["power_kw_m"],
+        rip_likelihood=haz["rip"], shore_break=haz["shore_break"],
+    )  # fmt: skip
+    rip_r = nums(haz["rip"], 0.01)
+    sb_l = haz["shore_break"].tolist()
     heights = np.where(any_has[:, None], arr.hb[ip, tt, :3], np.nan)  # (T, 3)
     hrows = grid(heights / FOOT, 0.5) if units == "imperial" else grid(heights, 0.1)
     period = nums(arr.near_tp[ip, tt, 0])
@@ -141,6 +144,7 @@ def step_dicts(
             grid(arr.hb[:, :, 1].T), grid(arr.db[:, :, 1].T), grid(arr.angle_b[:, :, 1].T, 1.0),
             grid(arr.kg[:, :, 1].T), grid(arr.iribarren[:, :, 1].T, 0.01), arr.breaker_type[:, :, 1].T.tolist(),
         )  # fmt: skip
+    zone = _Zone(arr, ip, tt, any_has, P)
     if K:
         hb_k = arr.hb[ip, tt, 3 : 3 + K]
         near_k = arr.near_hs[ip, tt, 1 : 1 + K]
@@ -171,6 +175,7 @@ def step_dicts(
                     name=names[i], nearshore_height_m=d0[i], nearshore_period_s=d1[i], nearshore_direction_deg=d2[i],
                     breaker_height_m=d3[i], breaking_depth_m=d4[i], breaking_angle_deg=d5[i],
                     komar_gaudiano_height_m=d6[i], iribarren=d7[i], breaker_type=d8[i] or None,
+                    **zone.point(t, i),
                 )  # fmt: skip
                 for i in range(P)
             ]
@@ -202,8 +207,10 @@ def step_dicts(
                 breaking_depth_m=bdepth[t],
                 iribarren=xi[t],
                 largest_point=names[ip[t]] if ok else None,
+                surf_zone=zone.step(t),
                 peel=peel,
-                hazard=dict(level=lv, label=labels[lv], policy=policy.name, policy_is_default=policy.is_default),
+                hazard=dict(level=lv, label=labels[lv], policy=policy.name, policy_is_default=policy.is_default,
+                            rip_current_likelihood=rip_r[t], shore_break=sb_l[t], inputs=policy.basis),
                 offshore=dict(
                     hm0_m=off_h[t] or 0.0, peak_period_s=off_tp[t], direction_deg=off_dir[t], wave_power_kw_m=off_pw[t]
                 ),
@@ -212,6 +219,65 @@ def step_dicts(
             )  # fmt: skip
         )
     return steps
+
+
+def hazard_inputs(
+    batch: OffshoreBatch, points: Sequence[PointSetup], arr: SpotArrays, ip: np.ndarray, set_max: np.ndarray,
+    basis: str = "nearshore",
+) -> dict[str, np.ndarray]:
+    """What a policy tests, per step at the step's point (models/hazard.py): nearshore peak period
+    and power at the reference point (offshore ones with basis "offshore"), the rip-current
+    likelihood, the shore-break flag."""
+    tt = np.arange(len(batch.times))
+    hs = arr.near_hs[ip, tt, 0]
+    tp = arr.near_tp[ip, tt, 0]
+    wl = np.asarray(arr.water_level, dtype=float)
+    href = np.array([p.table.reference_depth_m for p in points])[ip] + wl
+    ok = np.isfinite(tp) & (hs > 0) & (href > 0)
+    power = np.zeros(tt.size)
+    if ok.any():
+        power[ok] = wave_power(hs[ok], tp[ok], depth=href[ok], kind="spectral") / 1000.0
+    normal = np.array([p.normal_deg for p in points])[ip]
+    rip = rip_current_likelihood(hs, wrap_180(np.nan_to_num(arr.near_dir[ip, tt, 0], nan=normal) - normal), wl - wl.mean())
+    slope = np.array([p.slope for p in points])[ip]  # the break point's bed slope where no profile
+    if arr.foreshore_slope is not None:
+        fs = arr.foreshore_slope[ip, tt]
+        slope = np.where(np.isfinite(fs), fs, slope)
+    sb = shore_break(set_max, np.nan_to_num(tp, nan=0.0), slope, near_high_water(wl))
+    period = np.nan_to_num(tp, nan=0.0)
+    if basis == "offshore":
+        period = np.nan_to_num(batch.tp, nan=0.0)
+        power = np.nan_to_num(batch.power_kw_m, nan=0.0)
+    return dict(period_s=period, power_kw_m=power, rip=rip, shore_break=sb)
+
+
+class _Zone:
+    """The surf-zone values of a batch, rounded once: per step at its point, and per point (absent
+    where a point is on the single-wave path)."""
+
+    def __init__(self, arr: SpotArrays, ip: np.ndarray, tt: np.ndarray, any_has: np.ndarray, P: int) -> None:
+        self.method = list(arr.method) or ["single-wave"] * P
+        nan = np.full((P, tt.size), np.nan)
+        fields = [getattr(arr, k) if getattr(arr, k) is not None else nan
+                  for k in ("break_distance", "setup", "runup", "foreshore_slope")]  # fmt: skip
+        self.grid = [grid(f.T, q) for f, q in zip(fields, (1.0, 0.01, 0.01, 0.001), strict=True)]  # (T, P)
+        self.ip = ip.tolist()
+        self.has = any_has.tolist()
+
+    def point(self, t: int, i: int) -> dict[str, Any]:
+        if self.method[i] != "surf-zone":
+            return {}
+        b, s, r, _ = (g[t][i] for g in self.grid)
+        return dict(surf_model=self.method[i], breaking_distance_m=b, setup_m=s, runup_2pct_m=r)
+
+    def step(self, t: int) -> dict[str, Any] | None:
+        if not self.has[t]:
+            return None
+        i = self.ip[t]
+        if self.method[i] != "surf-zone":
+            return None
+        b, s, r, f = (g[t][i] for g in self.grid)
+        return dict(model=self.method[i], breaking_distance_m=b, setup_m=s, runup_2pct_m=r, foreshore_slope=f)
 
 
 __all__ = ["CAUTIONS", "build_steps", "cautions_for", "offshore_parts", "peel_fields", "step_dicts", "step_peel_fields"]

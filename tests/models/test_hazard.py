@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from datetime import UTC, datetime, timedelta
 
 import numpy as np
@@ -154,3 +155,57 @@ def test_deep_water_power_rule_of_thumb():
     # e.g. the "0.49 Hs^2 Te" rule quoted in wave-energy texts, from memory)
     assert wave_power_deep_kw_m(1.0, 1.0, g=9.81) == pytest.approx(0.4906, rel=1e-3)
     assert wave_power_deep_kw_m(2.0, 10.0, g=9.81) == pytest.approx(19.62, rel=1e-3)
+
+
+# --------------------------------------------------------------------------- nearshore inputs
+
+
+def test_rip_likelihood_is_the_logistic_form_of_dusek_and_seim():
+    # Dusek & Seim (2013): P = 1/(1 + e^-z), z linear in nearshore Hs, |direction - shore normal| and
+    # tidal elevation (the form and the signs of its findings: more with height, shore-normal waves
+    # and low water; the coefficients are placeholders, see RipModel)
+    from models.hazard import RIP_MODEL, rip_current_likelihood
+
+    m = RIP_MODEL
+    z = m.intercept + m.per_height_m * 1.5 + m.per_angle_deg * 10.0 + m.per_water_m * -0.5
+    assert float(rip_current_likelihood(1.5, -10.0, -0.5)) == pytest.approx(1 / (1 + math.exp(-z)), rel=1e-12)
+    hs = np.array([0.5, 1.0, 2.0, 3.0])
+    assert np.all(np.diff(rip_current_likelihood(hs, 0.0)) > 0)
+    assert rip_current_likelihood(2.0, 0.0) > rip_current_likelihood(2.0, 40.0)
+    assert rip_current_likelihood(2.0, 0.0, -1.0) > rip_current_likelihood(2.0, 0.0, 1.0)
+    assert float(rip_current_likelihood(np.nan, 0.0)) == 0.0  # nothing arrives
+    assert "not the paper" in m.source
+
+
+def test_shore_break_needs_plunging_on_a_steep_foreshore_near_high_water():
+    # Iribarren ξ = tan β/√(H/L0) >= 0.4 plunging or collapsing (Battjes 1974); steep = 1:10 (common practice)
+    from models.hazard import near_high_water, shore_break
+
+    # H 1.5 m, T 10 s (L0 156 m): tan β 0.12 -> ξ 1.22 plunging; 0.03 -> not steep
+    assert shore_break([1.5, 1.5, 1.5, 0.3], 10.0, [0.12, 0.03, 0.12, 0.12], [True, True, False, True]).tolist() == [
+        True, False, False, False,
+    ]  # fmt: skip
+    wl = np.array([-1.0, 0.0, 0.8, 1.0, 0.2])
+    assert near_high_water(wl).tolist() == [False, False, True, True, False]
+    assert near_high_water(np.zeros(3)).all()  # no tide known: high water cannot be ruled out
+
+
+def test_policy_with_rip_and_shore_break_levels():
+    p = HazardPolicy.from_mapping({
+        "name": "lifeguards", "levels": [
+            {"level": 0, "label": "green"},
+            {"level": 1, "label": "yellow", "set_height_m": 1.0, "rip_likelihood": 0.3},
+            {"level": 2, "label": "red", "set_height_m": 2.0, "rip_likelihood": 0.6, "shore_break": True},
+            {"level": 3, "label": "closed", "set_height_m": 3.0},
+        ],
+    })  # fmt: skip
+    lv = hazard_level(p, [0.5, 0.5, 0.5, 0.5], rip_likelihood=[0.1, 0.35, 0.65, 0.1], shore_break=[0, 0, 0, 1])
+    assert lv.tolist() == [0, 1, 2, 2]
+    assert hazard_level(p, [0.5]).tolist() == [0]  # not given: those criteria are not tested
+    assert HazardPolicy.from_mapping(p.to_mapping()) == p
+    with pytest.raises(InvalidInput, match="rip_likelihood"):
+        HazardPolicy.from_mapping({"name": "x", "levels": [
+            {"level": 0, "label": "a"}, {"level": 1, "label": "b", "set_height_m": 1, "rip_likelihood": 1.5},
+            {"level": 2, "label": "c", "set_height_m": 2}, {"level": 3, "label": "d", "set_height_m": 3}]})  # fmt: skip
+    with pytest.raises(InvalidInput, match="basis"):
+        HazardPolicy(name="x", levels=p.levels, basis="somewhere")

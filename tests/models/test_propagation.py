@@ -42,8 +42,9 @@ def test_delay_is_projection_over_cg_and_long_periods_first():
     along = dist * np.cos(np.radians(dirs + 180 - brg))
     cg = G * (1 / f) / (4 * np.pi)
     arr = along >= -1e-6
-    assert np.allclose(d[:, arr], along[arr][None, :] / cg[:, None], rtol=1e-12)
-    assert np.all(np.isinf(d[:, ~arr]))  # travelling away: never arrives
+    # signed: a component that passes the spot first (projection < 0) has a negative delay
+    assert np.allclose(d, along[None, :] / cg[:, None], rtol=1e-12, atol=1e-9)
+    assert np.all(d[:, along < -1.0] < 0)
     # long periods first, for every arriving direction
     assert np.all(np.diff(d[:, arr & (along > 1.0)], axis=0) > 0)
 
@@ -102,8 +103,10 @@ def test_shift_moves_each_frequency_by_its_delay_long_periods_first():
     expected = 10 + dist / (G / (4 * np.pi * f)) / 3600
     assert np.all(np.abs(peak_hours - expected) <= 1 / 6 + 1e-9)
     assert np.all(np.diff(peak_hours) > 0)  # 20 s arrives before 14 s before 10 s
-    # components from the east travel away from the spot: never there
-    assert not r.available[:, :, 1].any() and np.all(r.efth[:, :, 1] == 0)
+    # components from the east pass the spot first: the spot saw the 20 s pulse |Δt| = 8.9 h before the
+    # station (signed delay); the slower ones before the first target time
+    assert np.all(r.delay_s[:, 1] < 0)
+    assert np.argmax(r.efth[:, 0, 1]) / 6 == pytest.approx(10 - dist / (G / (4 * np.pi * f[0])) / 3600, abs=1 / 6)
     # provenance: at the 20 s peak the source position is observation 10 (to within the grid)
     k = int(np.argmax(r.efth[:, 0, 0]))
     assert abs(r.source_position[k, 0, 0] - 10) <= 1 / 6 * 1.01
@@ -169,3 +172,29 @@ def test_input_validation_names_argument():
         arrival_delay(f, dirs, distance_m=-1.0, bearing_deg=0.0)
     with pytest.raises(InvalidInput, match="`lat1`"):
         great_circle_distance(91, 0, 0, 0)
+
+
+def test_a_downstream_station_is_read_later_by_the_signed_delay():
+    # the station is downstream (the spot 500 km west of it, bearing 270°): a component from the west
+    # passes the spot first, so the spot at τ sees what the station saw at τ + |Δt| (Munk 1947: Δt = d/Cg)
+    times, f, dirs, e = _pulse_obs()
+    e[:] = 0.0
+    e[30] = 1.0  # the pulse reaches the station at hour 30
+    dist = 500e3
+    target = [T0 + timedelta(minutes=10 * k) for k in range(6 * 48)]
+    r = shift_to_spot(times, f, dirs, e, distance_m=dist, bearing_deg=270.0, target_times=target)
+    lag_h = dist / (G / (4 * np.pi * f)) / 3600  # 8.9, 12.7, 17.8 h
+    assert np.all(r.delay_s[:, 0] < 0) and np.allclose(-r.delay_s[:, 0] / 3600, lag_h)
+    peak_hours = np.array([np.argmax(r.efth[:, j, 0]) / 6 for j in range(3)])
+    assert np.all(np.abs(peak_hours - (30 - lag_h)) <= 1 / 6 + 1e-9)
+    # a target time whose station time τ + |Δt| is after the last observation (hour 48) waits for it
+    tau_h = np.arange(6 * 48) / 6
+    for j in range(3):
+        assert np.array_equal(r.available[:, j, 0], tau_h + lag_h[j] <= 48.0 + 1e-9)
+    assert np.array_equal(r.awaiting, tau_h + lag_h.max() > 48.0 + 1e-9)
+    # every component counts, downstream (from 270°) and upstream (from 90°) alike: the energy coverage
+    # is 1 while every station time is observed (both ways), lower where any is not
+    steady = shift_to_spot(times, f, dirs, np.ones_like(e), distance_m=dist, bearing_deg=270.0, target_times=target)
+    whole = (tau_h + lag_h.max() <= 48.0 + 1e-9) & (tau_h - lag_h.max() >= -1e-9)
+    assert whole.any() and np.allclose(steady.energy_coverage[whole], 1.0)
+    assert np.all(steady.energy_coverage[~whole] < 1.0)

@@ -421,3 +421,17 @@ def test_build_table_validates():
         build_table(g, 200.0, 0.0, periods_s=[10.0, 8.0])
     with pytest.raises(InvalidInput, match="too shallow or on land"):
         build_table(g, 0.0, 0.0, periods_s=[8.0])
+
+
+def test_a_table_carries_the_surf_zone_profile_along_the_arriving_energy():
+    # planar beach, shore along x = 0, sea to the east: the energy arrives shore-normal (FROM 90°),
+    # so the profile runs due west from the reference point and its bed is m·x (the grid itself)
+    t = build_table(planar(), 200.0, 0.0, periods_s=[8.0, 12.0], smoothing_m=0.0, launch_spacing_deg=1.0)
+    p = t.profile
+    assert p is not None and not p.extended
+    assert p.bearing_deg == pytest.approx(270.0, abs=0.5)
+    k = int(np.argmin(p.bed_m > 0))  # the datum shoreline; the foreshore continues above it
+    np.testing.assert_allclose(p.bed_m[:k], 0.05 * (200.0 - p.distance_m[:k]), atol=0.05)
+    assert p.distance_m[k] == pytest.approx(200.0, abs=25.0) and p.bed_m[-1] <= -3.0
+    t2 = TransferTable.from_arrays(t.to_arrays())
+    assert t2.profile is not None and np.array_equal(t2.profile.bed_m, p.bed_m)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import io
 from datetime import datetime
 from functools import cache
@@ -77,7 +78,16 @@ def table_for(kind: str, x: float, y: float, reference_depth_m: float = 10.0) ->
     )
 
 
-def points_for(kind: str, ys: tuple[float, ...], names: tuple[str, ...] | None = None) -> list[PointSetup]:
+def _table(kind: str, x: float, y: float, profile: bool) -> TransferTable:
+    """The cached table, without its surf-zone profile unless `profile` (the tests of the
+    single-wave path keep their meaning: models.surf uses that path for tables without one)."""
+    t = table_for(kind, x, y)
+    return t if profile else dataclasses.replace(t, profile=None)
+
+
+def points_for(
+    kind: str, ys: tuple[float, ...], names: tuple[str, ...] | None = None, *, profile: bool = False
+) -> list[PointSetup]:
     grid = grid_of(kind)
     names = names or tuple(f"p{i}" for i in range(len(ys)))
     out = []
@@ -86,7 +96,7 @@ def points_for(kind: str, ys: tuple[float, ...], names: tuple[str, ...] | None =
         geo = grid.contour_geometry(x, y)
         out.append(
             PointSetup(
-                name, x, y, table_for(kind, x, y), float(geo.depth), float(geo.slope), float(geo.normal_deg)
+                name, x, y, _table(kind, x, y, profile), float(geo.depth), float(geo.slope), float(geo.normal_deg)
             )
         )
     return out
@@ -98,13 +108,15 @@ def point_xy(depth: float, angles_deg: tuple[float, ...]) -> list[tuple[float, f
     return [(POINT_X + r * np.cos(np.radians(a)), r * np.sin(np.radians(a))) for a in angles_deg]
 
 
-def points_at(kind: str, xys: list[tuple[float, float]]) -> list[PointSetup]:
+def points_at(kind: str, xys: list[tuple[float, float]], *, profile: bool = False) -> list[PointSetup]:
     grid = grid_of(kind)
     out = []
     for i, (x, y) in enumerate(xys):
         geo = grid.contour_geometry(x, y)
         out.append(
-            PointSetup(f"p{i}", x, y, table_for(kind, x, y), float(geo.depth), float(geo.slope), float(geo.normal_deg))
+            PointSetup(
+                f"p{i}", x, y, _table(kind, x, y, profile), float(geo.depth), float(geo.slope), float(geo.normal_deg)
+            )
         )
     return out
 

@@ -48,8 +48,8 @@ def _setup(s, hs_by_hour: list[float]) -> None:
 
 
 def test_current_level_highest_in_horizon_and_onset(migrated_db: str) -> None:
-    # sets breaker heights grow with Hs: 0.4 m offshore stays below 1 m sets, 1.6 m is above 2 m
-    hs = [0.4, 0.4, 0.4, 0.8, 0.8, 1.6, 1.6, 1.6, 0.4, 0.4]
+    # sets breaker heights grow with Hs: 0.4 m offshore stays below 1 m sets, 2.0 m is above 2 m
+    hs = [0.4, 0.4, 0.4, 0.8, 0.8, 2.0, 2.0, 2.0, 0.4, 0.4]
     with session_scope(migrated_db) as s:
         _setup(s, hs)
         now = T0 + timedelta(minutes=30)
@@ -120,3 +120,27 @@ def test_hazards_use_the_cache(migrated_db: str, monkeypatch: pytest.MonkeyPatch
     assert calls.count("beach-h") == 1
     assert a.model_dump(mode="json") == b.model_dump(mode="json")
     assert np.isfinite(a.horizon_hours)
+
+
+def test_hazards_and_cap_alerts_carry_rip_likelihood_and_shore_break(migrated_db: str) -> None:
+    from app.formats.cap import validate_cap
+    from app.services.alerts import sync_alerts
+
+    hs = [0.4, 0.8, 1.6, 2.2, 1.6, 0.8]
+    with session_scope(migrated_db) as s:
+        _setup(s, hs)
+        now = T0 + timedelta(minutes=30)
+        body = outlooks.get_outlook(s, "beach-h", hours=72, start=T0, agency_id="guards")
+        rips = [st.hazard.rip_current_likelihood for st in body.steps]
+        result = hazards.agency_hazards(s, "guards", horizon_hours=6, now=now)
+        h = {x.spot_id: x for x in result.spots}["beach-h"]
+        [alert] = sync_alerts(s, "guards", result.spots, sender="tests@shoalcast", now=now)
+        xml = alert.xml
+    assert all(r is not None and 0 <= r <= 1 for r in rips)
+    assert h.rip_current_likelihood == rips[0]  # the current step
+    assert h.max_rip_current_likelihood == max(rips)  # highest in the horizon
+    assert h.shore_break is False and h.shore_break_onset is None  # a 1:50 foreshore: no shore-break
+    assert f'<valueName>shoalcast_rip_current_likelihood</valueName><value>{max(rips):.2f}</value>' in xml
+    assert "<valueName>shoalcast_shore_break</valueName><value>false</value>" in xml
+    assert validate_cap(xml) == []
+    json.dumps(result.model_dump(mode="json"), allow_nan=False)

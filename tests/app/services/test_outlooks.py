@@ -8,6 +8,7 @@ surfer riding toward shore); closeout below a 20° peel angle (common practice, 
 
 from __future__ import annotations
 
+import dataclasses
 import importlib.util
 import json
 import math
@@ -41,9 +42,10 @@ T0 = datetime(2030, 1, 1, tzinfo=UTC)
 
 
 def run(
-    kind: str, ys: tuple[float, ...], efth: np.ndarray, *, policy: HazardPolicy = DEFAULT_POLICY, water=0.0
-):
-    pts = fx.points_for(kind, ys)
+    kind: str, ys: tuple[float, ...], efth: np.ndarray, *, policy: HazardPolicy = DEFAULT_POLICY, water=0.0,
+    profile: bool = False,
+):  # fmt: skip
+    pts = fx.points_for(kind, ys, profile=profile)
     e = np.asarray(efth)
     e = e[None] if e.ndim == 2 else e
     batch = outlooks.prepare_offshore(
@@ -86,6 +88,45 @@ def test_water_level_moves_the_break_shoreward_depth_up() -> None:
     _, high, _ = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0), water=1.5)
     assert high.db[0, 0, 0] == pytest.approx(low.db[0, 0, 0], rel=0.05)  # breaks at the same water depth
     assert np.all(high.water_level == 1.5)
+
+
+# --------------------------------------------------------------------------- surf-zone path
+
+
+def test_profile_path_on_the_straight_beach_is_depth_limited_with_set_up_and_run_up() -> None:
+    from models.breaking import komar_gaudiano, weggel_breaker_height
+
+    hs, tp = 1.2, 12.0
+    pts, arr, steps = run("beach", (0.0,), fx.swell(hs, tp, 270.0), profile=True)
+    assert pts[0].table.profile is not None and arr.method == ("surf-zone",)
+    typical, sets, largest = arr.hb[0, 0, :3]
+    db = arr.db[0, 0, 1]
+    # never past breaking: Weggel (1972; SPM 1984 eqs 2-92..2-94) at the breaking depth and slope
+    assert typical < sets < largest <= float(weggel_breaker_height(db, tp, fx.SLOPE)) + 1e-9
+    # the random sea's typical .. sets heights bracket Komar & Gaudiano's (1975) regular breaker
+    kg = float(komar_gaudiano(hs, tp))
+    assert 0.6 * kg < typical < kg < 1.3 * sets
+    assert 0.02 < arr.setup[0, 0] < 0.4 * hs  # order of Guza & Thornton (1981): 0.17 Hs0 (from memory)
+    assert arr.runup[0, 0] > arr.setup[0, 0]
+    z = steps[0].surf_zone
+    assert z is not None and z.model == "surf-zone" and z.runup_2pct_m is not None
+    assert z.foreshore_slope == pytest.approx(fx.SLOPE, abs=0.002)  # the fixture's 1:50 foreshore
+    assert steps[0].points[0].surf_model == "surf-zone"
+
+
+def test_profile_path_water_level_moves_the_break_shoreward() -> None:
+    _, low, _ = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0), profile=True)
+    _, high, _ = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0), water=1.5, profile=True)
+    # the same sea breaks at about the same total depth, 1.5 m / slope further along the profile
+    assert high.db[0, 0, 1] == pytest.approx(low.db[0, 0, 1], rel=0.1)
+    shift = high.break_distance[0, 0] - low.break_distance[0, 0]
+    assert shift == pytest.approx(1.5 / fx.SLOPE, rel=0.25)
+
+
+def test_single_wave_path_steps_carry_no_surf_zone_values() -> None:
+    _, arr, steps = run("beach", (0.0,), fx.swell(1.0, 10.0, 270.0))
+    assert arr.method == ("single-wave",) and steps[0].surf_zone is None
+    assert steps[0].points[0].surf_model is None
 
 
 # --------------------------------------------------------------------------- peel
@@ -202,6 +243,41 @@ def test_a_sheltered_point_gets_nothing_from_the_blocked_swell_and_all_of_the_op
     json.dumps(steps[0].model_dump(mode="json"), allow_nan=False)  # no NaN reaches JSON
 
 
+def test_an_island_shadow_holds_under_a_narrow_swell_from_buoy_coefficients() -> None:
+    # Goda's s_max = 75 (swell with a long decay distance; Goda 1985): 1.5 m 14 s from 320°, inside the
+    # geometric shadow of the land strip north of the point (from the point it covers ~280°..20°), given
+    # as the agency files print it (r to two decimals: 0.99 / 0.95 near the peak, no distribution has
+    # them). The sheltered point's typical breaker height stays under 0.35 of the open beach's.
+    from types import SimpleNamespace
+
+    from app.services import outlook_inputs as inputs
+    from models import spectra as sp
+    from models.directional import COS2S
+
+    d_fine = np.arange(0.0, 360.0, 0.5)
+    e_fine = sp.jonswap(fx.FREQ, hs=1.5, tp=14.0)[:, None] * sp.cos2s(d_fine, mean_dir_deg=320.0, s=75.0)[None, :]
+    n = sp.fourier_to_ndbc(*sp.coefficients_from_spectrum(e_fine, d_fine))
+    printed = dict(r1=np.round(n.r1, 2), r2=np.round(n.r2, 2), alpha1_deg=np.round(n.alpha1_deg) % 360,
+                   alpha2_deg=np.round(n.alpha2_deg) % 360)  # fmt: skip
+    density = sp.frequency_spectrum(e_fine, d_fine)
+    rec = SimpleNamespace(efth=None, directions_deg=None, frequency=fx.FREQ, density=density, **printed)
+    d, e, label, est = inputs.estimate_of(rec)
+    assert label == COS2S and est.projected.any()
+
+    def typical(kind: str, efth: np.ndarray) -> float:
+        pts = fx.points_for(kind, (0.0,))
+        batch = outlooks.prepare_offshore(fx.hours(T0, 1), fx.FREQ, d, efth[None], source="t", kind="observed")
+        return float(np.nan_to_num(outlooks.compute_spots(batch, [pts])[0].hb[0, 0, 0]))
+
+    open_beach = typical("beach", e)
+    assert open_beach > 0.5
+    assert typical("jetty", e) < 0.35 * open_beach
+    # the former estimate (maximum entropy, the weighted series where it has no solution) spread the
+    # swell over ~47° and the shadow leaked: the same check fails with it
+    old = sp.directional_spectrum_from_coefficients(fx.FREQ, density, d, **printed, method="mem")
+    assert typical("jetty", old) > 0.35 * typical("beach", old)
+
+
 def test_precomputed_transfer_weights_equal_transfer_apply() -> None:
     # exact identity (same maths, reordered): the memoised weights applied as one product give
     # models.transfer.apply's density and per-frequency mean direction; frequencies beyond the
@@ -256,6 +332,41 @@ def test_hazard_levels_switch_at_the_set_breaker_thresholds() -> None:
     assert [s.hazard.level for s in steps] == expected
     assert len(set(expected)) >= 3  # the ramp crosses at least two thresholds
     assert [s.hazard.label for s in steps] == [policy.label(v) for v in expected]
+
+
+@pytest.mark.parametrize("profile", [False, True])
+def test_a_sheltered_spot_is_not_raised_by_offshore_energy_its_window_blocks(profile: bool) -> None:
+    # a big long-period swell from the north-west, which the jetty blocks, and a small open one:
+    # offshore power is large, yet the default policy (nearshore inputs only) and an agency policy
+    # with a power threshold stay at level 0; the same policy on offshore values would be raised
+    blocked = fx.swell(3.0, 16.0, 320.0)
+    open_ = fx.swell(0.4, 9.0, 245.0)
+    powerful = HazardPolicy(
+        name="power policy",
+        levels=(
+            HazardLevel(0, "calm"),
+            HazardLevel(1, "care", set_height_m=1.5, power_kw_m=30.0),
+            HazardLevel(2, "danger", set_height_m=2.5, power_kw_m=60.0),
+            HazardLevel(3, "closed", set_height_m=4.0, power_kw_m=120.0),
+        ),
+    )
+    for policy in (DEFAULT_POLICY, powerful):
+        _, arr, steps = run("jetty", (0.0,), blocked + open_, policy=policy, profile=profile)
+        assert steps[0].offshore.wave_power_kw_m > 60.0  # ρg²Hm0²Te/(64π): about 70 kW/m offshore
+        assert steps[0].hazard.level == 0, policy.name
+        assert steps[0].hazard.inputs == "nearshore"
+        assert steps[0].hazard.rip_current_likelihood < 0.1
+    offshore = dataclasses.replace(powerful, basis="offshore")
+    _, _, steps = run("jetty", (0.0,), blocked + open_, policy=offshore, profile=profile)
+    assert steps[0].hazard.level >= 2 and steps[0].hazard.inputs == "offshore"
+
+
+def test_rip_likelihood_rises_with_the_breakers_that_arrive() -> None:
+    e = np.stack([fx.swell(h, 10.0, 270.0) for h in (0.5, 1.5, 2.5)])
+    _, _, steps = run("beach", (0.0,), e, profile=True)
+    rips = [s.hazard.rip_current_likelihood for s in steps]
+    assert rips == sorted(rips) and rips[0] < rips[-1]
+    assert all(s.hazard.shore_break is False for s in steps)  # a 1:50 foreshore is not steep
 
 
 # --------------------------------------------------------------------------- the database side
@@ -429,6 +540,32 @@ def test_partial_arrival_spectra_are_not_issued_and_the_model_forecast_fills_in(
     assert set(kinds[:k]) == {"arrival-forecast"} and set(kinds[k:]) == {"model-forecast"}
     assert all(st.offshore.hm0_m == pytest.approx(2.0, abs=0.1) for st in mixed.steps[k:])
     assert all(st.arrival_coverage is None for st in mixed.steps[k:])
+
+
+def test_a_station_downstream_of_the_spot_gives_the_steady_sea(migrated_db: str) -> None:
+    # the case: a steady sea from the west (16 s 1.5 m + 8 s 1.2 m, about 2 m) seen by a station
+    # 150 km EAST of the spot: the swell passes the spot first. With signed delays (Munk 1947: Δt = d/Cg,
+    # negative here) the spot's offshore Hm0 is the station's steady Hm0 (within 5 %); hours that need
+    # observations not yet made are left out with a note.
+    dist_deg = 150_000.0 / (math.pi / 180.0 * 6_371_008.8)
+    steady = fx.swell(1.5, 16.0, 270.0) + fx.swell(1.2, 8.0, 270.0)
+    obs_times = fx.hours(T0 - timedelta(hours=30), 40)  # last at T0 + 9 h
+    with session_scope(migrated_db) as s:
+        buoy = _source(s, "buoy", lat=0.0, lon=dist_deg)
+        _spot(s, "beach-e", ["buoy"], lat=0.0, lon=0.0)
+        store_result(s, buoy, _records(obs_times, [steady] * 40), files=["obs"])
+        body = outlooks.compute_outlook(s, "beach-e", hours=12, start=T0)
+    station = 4.0 * math.sqrt(float(np.sum((steady * np.radians(2.0)).sum(axis=1) * bin_widths(fx.FREQ))))
+    assert station == pytest.approx(1.92, abs=0.05)
+    arrivals = [st for st in body.steps if st.input == "arrival-forecast"]
+    assert arrivals, body.notes
+    for st in arrivals:
+        assert st.offshore.hm0_m == pytest.approx(station, rel=0.05)
+        assert st.arrival_coverage >= 0.9
+    # the 8 s part needs the station 150 km / 6.2 m/s = 6.7 h later: after T0 + 2.3 h it is not yet observed
+    lag_8 = timedelta(seconds=150_000.0 / (G * 8.0 / (4 * math.pi)))
+    assert all(st.time + lag_8 <= T0 + timedelta(hours=9, minutes=1) for st in arrivals)
+    assert any("need observations not yet made" in n for n in body.notes)
 
 
 def test_cache_unchanged_inputs_do_no_work_and_new_observations_recompute_only_their_spots(

@@ -22,7 +22,10 @@ from models.waves import shoaling_coefficient
 SLOPE = 1 / 30
 
 
-def write_beach(folder: Path, *, depth_offset: float = 0.0, reference_depth: float = 8.0, method: str = "rays") -> Path:
+def write_beach(
+    folder: Path, *, depth_offset: float = 0.0, reference_depth: float = 8.0, method: str = "rays",
+    periods: tuple[float, float, int] = (8.0, 14.0, 3),
+) -> Path:
     """A west-facing planar beach, 3 km x 2 km at 50 m: depth = (x_shore - x)·slope, land east of x = 1400 m."""
     xs = -1575.0 + 50.0 * np.arange(60)
     depth = (1400.0 - xs) * SLOPE + depth_offset
@@ -49,9 +52,9 @@ y = -300.0
 [model]
 method = "{method}"
 reference_depth_m = {reference_depth}
-period_min_s = 8.0
-period_max_s = 14.0
-period_count = 3
+period_min_s = {periods[0]}
+period_max_s = {periods[1]}
+period_count = {periods[2]}
 launch_spacing_deg = 1.0
 direction_bin_deg = 5.0
 smoothing_m = 0.0
@@ -163,28 +166,34 @@ def test_window_json_shape(beach: Path, migrated_db: str, capsys: pytest.Capture
         assert 175.0 <= a < 360.0 and 175.0 < b <= 365.0
 
 
-def test_refraction_diffraction_switch_rebuilds_into_the_same_table(
-    beach: Path, migrated_db: str, tmp_path: Path
-) -> None:
+def test_refraction_diffraction_switch_rebuilds_into_the_same_table(beach: Path, migrated_db: str, tmp_path: Path) -> None:
     # `[model] method` is part of the input hash; the refraction-diffraction table has the ray
-    # table's shape, and over this planar beach K at normal incidence is the shoaling coefficient
+    # table's layout, and over this planar beach K at normal incidence is the shoaling coefficient
     # (linear theory, SPM 1984 Vol. II App. C; deep-water normalised, as the grid starts above it)
+    periods = (12.0, 14.0, 2)  # long waves: a small local grid keeps the test quick
+    write_beach(tmp_path, periods=periods)
+    assert main(["spot", "add", str(beach)]) == 0
     build(migrated_db)
     before = hashes(migrated_db)
     with session_scope(migrated_db) as s:
-        shape = svc.load_table(s.scalars(select(TransferTableRow)).first()).coefficient.shape
-    write_beach(tmp_path, method="refraction-diffraction")
+        rows = list(s.scalars(select(TransferTableRow)))
+        shape = svc.load_table(rows[0]).coefficient.shape
+        opts = {k: v for k, v in rows[0].meta["options"].items() if k not in ("break_x", "break_y")}
+    assert opts["method"] == "rays"
+    write_beach(tmp_path, periods=periods, method="refraction-diffraction")
     assert main(["spot", "add", str(beach)]) == 0
     labels: list[str] = []
     report = build(migrated_db, executor=None, progress=lambda label, done, total: labels.append(label))
     assert len(report.built) == 2 and {b["method"] for b in report.built} == {"refraction-diffraction"}
     assert any(lb.endswith("rays") for lb in labels)  # progress per stage and per component
-    assert any(" T 8 s (" in lb for lb in labels) and any(" T 14 s (" in lb for lb in labels)
+    assert any(" T 12 s (" in lb for lb in labels) and any(" T 14 s (" in lb for lb in labels)
     after = hashes(migrated_db)
     assert {h for h, _ in after.values()}.isdisjoint({h for h, _ in before.values()})
     with session_scope(migrated_db) as s:
         for row in s.scalars(select(TransferTableRow)):
             t = svc.load_table(row)
+            mine = {k: v for k, v in row.meta["options"].items() if k not in ("break_x", "break_y")}
+            assert mine == dict(opts, method="refraction-diffraction")  # the only change
             assert t.meta["method"] == "refraction-diffraction"
             assert t.coefficient.shape == shape
             j = int(np.flatnonzero(t.directions_deg == 270.0)[0])
