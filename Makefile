@@ -24,7 +24,10 @@ test: lint
 demo: install
 	$(BIN)/shoalcast demo $(DEMO_ARGS)
 
+# The API benchmark drives wrk (a C load generator; Debian package wrk): installed when missing.
 bench: install
+	command -v wrk >/dev/null 2>&1 || (apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq wrk >/dev/null) || \
+		echo "bench: could not install wrk (the api benchmark will fail)" >&2
 	$(BIN)/python -m bench.run $(BENCH_ARGS)
 
 openapi: install

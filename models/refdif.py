@@ -343,4 +343,5 @@ def _merge(tab, results, refused, aperture, opts) -> transfer.TransferTable:
         nearshore_direction_deg=ndir, travel_time_s=tt, energy_travel_time_s=et, open_fraction=of,
         lost_fraction_by_period=tab.lost_fraction_by_period, reference_depth_m=tab.reference_depth_m,
         reference_x=tab.reference_x, reference_y=tab.reference_y, lost_fraction=tab.lost_fraction, meta=meta,
+        profile=tab.profile,  # the surf-zone profile of the ray table (models.surfzone)
     )  # fmt: skip

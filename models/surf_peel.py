@@ -16,8 +16,16 @@ from typing import NamedTuple
 
 import numpy as np
 
+from models.constants import DEG, G
 from models.directions import wrap_180
-from models.peel import PeelResult, crest_speed, peel_from_break_times, peel_from_breaking_angle
+from models.errors import InvalidInput
+from models.peel import (
+    CLOSEOUT_ANGLE_DEG,
+    PeelResult,
+    crest_speed,
+    peel_from_break_times,
+    peel_from_breaking_angle,
+)
 from models.surf import PointSetup, SpotArrays
 from models.transfer import TransferTable
 from models.waves import phase_speed
@@ -79,6 +87,46 @@ def peel_one(p: PointSetup, angle_b: float, db: float) -> PeelResult:
         contour_normal_from_deg=p.normal_deg,
         crest_speed_m_s=float(crest_speed(db)),
     )
+
+
+def peel_one_many(
+    p: PointSetup, angle_b: Sequence[float], db: Sequence[float], hb: Sequence[float]
+) -> list[PeelResult | None]:
+    """`peel_one` at every step of a one-point spot (None where `hb` is not finite: nothing breaks),
+    with the same arithmetic step by step (so the same results) but without building and checking
+    each call's arguments: the outlook's single-point steps, where one call per step was its
+    largest cost. Bad values raise as `peel_one` does."""
+    normal = p.normal_deg
+    if not math.isfinite(normal):
+        raise InvalidInput(f"`contour_normal_from_deg` must be finite, got {normal!r}")
+    out: list[PeelResult | None] = []
+    for a, d, h in zip(angle_b, db, hb, strict=True):
+        if not math.isfinite(h):
+            out.append(None)
+            continue
+        wave_from = (normal + a) % 360.0
+        if not (math.isfinite(wave_from) and math.isfinite(d) and d > 0):
+            out.append(peel_one(p, a, d))  # raises with peel_one's message
+            continue
+        theta = (wave_from - normal + 180.0) % 360.0 - 180.0
+        if abs(theta) >= 90.0:
+            out.append(peel_one(p, a, d))
+            continue
+        cb = math.sqrt(G * d)  # crest_speed
+        alpha = abs(theta)
+        if theta == 0:
+            direction, sweep, angle, left, right = "closeout", "none", 0.0, None, None
+        else:
+            side = "left" if theta < 0 else "right"
+            left, right = (alpha, None) if theta < 0 else (None, alpha)
+            direction, sweep, angle = (side if alpha >= CLOSEOUT_ANGLE_DEG else "closeout"), side, alpha
+        r = angle * DEG  # peel_speeds' scalar path
+        sin = math.sin(r)
+        vp = 0.0 if angle >= 90 else (math.inf if sin == 0 else cb * math.cos(r) / sin)
+        vs = math.inf if sin == 0 else cb / sin
+        out.append(PeelResult(direction, sweep, float(angle), left, right, float(vp), float(vs), float(cb), 0, None,
+                              np.array([alpha])))  # fmt: skip
+    return out
 
 
 def step_peel(
@@ -152,4 +200,4 @@ def step_peel(
     return StepPeel(peel_one(points[i], float(ang[i]), float(db[i])), i, i_big, "breaking-angle")
 
 
-__all__ = ["StepPeel", "crest_at_reference", "peel_one", "run_time", "step_peel"]
+__all__ = ["StepPeel", "crest_at_reference", "peel_one", "peel_one_many", "run_time", "step_peel"]

@@ -10,6 +10,7 @@
 from __future__ import annotations
 
 from collections.abc import Callable, Iterator
+from contextlib import AbstractContextManager
 from typing import Annotated, Any
 
 from fastapi import Depends, Request, Security
@@ -26,8 +27,12 @@ __all__ = [
     "ApiKeyDep",
     "SessionDep",
     "SettingsDep",
+    "VARY",
     "cache_control",
     "conditional",
+    "fresh",
+    "read_data_version",
+    "request_session",
     "require_scope",
 ]
 
@@ -48,6 +53,20 @@ def get_session(request: Request) -> Iterator[Session]:
 
 SessionDep = Annotated[Session, Depends(get_session)]
 
+
+def read_data_version(request: Request) -> int:
+    """The data version (app.db.version.Reader): the 304 paths read only this, so they need no ORM
+    session (and no session dependency, which costs two thread hops)."""
+    from app.db import version
+
+    return version.reader(request.app.state.database_url).read()
+
+
+def request_session(request: Request) -> AbstractContextManager[Session]:
+    """A session for the rest of a handler that first answered what it could without one (commits
+    on success, rolls back on error, like SessionDep)."""
+    return scoped(request.app.state.session_factory)
+
 api_key_header = APIKeyHeader(name="X-API-Key", auto_error=False, description="API key for writes (`shoalcast key create`).")
 
 
@@ -67,6 +86,14 @@ def cache_control(settings: Settings | None, *, poll: bool = False) -> str:
         return "no-cache"
     age = max(0, int(settings.refresh_seconds)) if settings is not None else 0
     return f"public, max-age={age}, stale-while-revalidate={age}"
+
+
+def fresh(request: Request, etag: str) -> bool:
+    """The request holds `etag` by name (If-None-Match listing it; `*` does not count): a 304 may be
+    sent before anything else is looked up (the tag was made from the current data version)."""
+    value = request.headers.get("if-none-match")
+    return (request.method in ("GET", "HEAD") and value is not None and value.strip() != "*"
+            and if_none_match_matches(value, etag))
 
 
 def conditional(

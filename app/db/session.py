@@ -43,6 +43,9 @@ def get_engine(url: str | None = None) -> sa.Engine:
 
 
 def dispose_engines() -> None:
+    from app.db.version import dispose_readers
+
+    dispose_readers()
     with _lock:
         for engine in _engines.values():
             engine.dispose()

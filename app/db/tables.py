@@ -291,6 +291,17 @@ class Calibration(Base):
     metrics: Mapped[dict[str, Any]] = mapped_column(JSONType, default=dict)  # the scores it came from
 
 
+class DataVersion(Base):
+    """One row: a counter bumped in every transaction that changes what outlooks, hazards or spots
+    are made of (app.db.version), so every process can tell cheaply whether its answers still hold."""
+
+    __tablename__ = "data_version"
+
+    id: Mapped[int] = mapped_column(primary_key=True, autoincrement=False)
+    version: Mapped[int] = mapped_column(sa.BigInteger, default=1)
+    changed_at: Mapped[datetime] = mapped_column(UTCDateTime, default=utcnow)
+
+
 __all__ = [
     "Agency",
     "Alert",
@@ -298,6 +309,7 @@ __all__ = [
     "Bathymetry",
     "BreakPoint",
     "Calibration",
+    "DataVersion",
     "HazardPolicy",
     "Job",
     "Observation",

@@ -11,17 +11,17 @@ from __future__ import annotations
 import bisect
 import hashlib
 import logging
-import threading
 from datetime import datetime, timedelta
 
-from sqlalchemy import func, select
 from sqlalchemy.orm import Session
 
 from app.config import get_settings
-from app.db.tables import Agency, HazardPolicy, Observation, Spot, TransferTableRow, utcnow
+from app.db import version as data_version
+from app.db.tables import Agency, Spot, utcnow
 from app.errors import BadInput, Conflict, NotFound
 from app.schemas.outlooks import AgencyHazards, SpotHazard
 from app.services import outlooks
+from app.services.memo import VersionMemo
 from models.hazard import hazard_summary
 
 log = logging.getLogger(__name__)
@@ -105,68 +105,45 @@ def _empty(spot_id: str, name: str, note: str, cautions: list[str] | None = None
 
 
 def hazard_version(session: Session, agency_id: str, *, now: datetime | None = None) -> str:
-    """A short string that changes whenever an input of the agency's hazards changes (for ETags):
-    the agency and its policies, its spots (profile, tables), the newest observations of their
-    sources, the outlook engine version and the current hour (the horizon moves with it)."""
-    agency = session.get(Agency, agency_id)
-    if agency is None:
+    """A short string that changes whenever an input of the agency's hazards may have changed (for
+    ETags and the memo): see `hazard_tag`. NotFound when there is no such agency."""
+    if session.get(Agency, agency_id) is None:
         raise NotFound(f"no agency with id {agency_id!r}")
+    return hazard_tag(data_version.current(session), agency_id, now=now)
+
+
+def hazard_tag(version: int, agency_id: str, *, now: datetime | None = None) -> str:
+    """`hazard_version` from a data version already read (app.db.version: bumped by every change of
+    spots, tables, sources, observations, agencies and policies): with the agency, the outlook
+    engine version, the settings the summary uses and the current hour (the horizon moves with it)."""
+    settings = get_settings()
     now = utcnow() if now is None else now
-    parts: list[str] = [
-        outlooks.OUTLOOK_VERSION,
-        _now_hour(now).isoformat(),
-        agency.id,
-        agency.updated_at.isoformat(),
-    ]
-    parts += sorted(agency.spots)
-    for row in session.execute(
-        select(HazardPolicy.spot_key, HazardPolicy.updated_at).where(HazardPolicy.agency_id == agency_id)
-    ):
-        parts.append(f"p:{row[0]}:{row[1].isoformat()}")
-    sources: set[str] = set()
-    for spot in session.scalars(select(Spot).where(Spot.id.in_(agency.spots))):
-        parts.append(f"s:{spot.id}:{spot.profile_sha256}:{spot.updated_at.isoformat()}")
-        sources.update(spot.sources or [])
-    for row in session.execute(
-        select(TransferTableRow.spot_id, TransferTableRow.id, TransferTableRow.input_hash).where(
-            TransferTableRow.spot_id.in_(agency.spots)
-        )
-    ):
-        parts.append(f"t:{row[0]}:{row[1]}:{row[2]}")
-    if sources:
-        for row in session.execute(
-            select(
-                Observation.source_id,
-                func.count(),
-                func.max(Observation.id),
-                func.max(Observation.ingested_at),
-            )
-            .where(Observation.source_id.in_(sorted(sources)))
-            .group_by(Observation.source_id)
-        ):
-            parts.append(f"o:{row[0]}:{row[1]}:{row[2]}:{row[3]}")
-    return hashlib.sha256("\n".join(sorted(parts)).encode()).hexdigest()[:20]
+    parts = (outlooks.OUTLOOK_VERSION, version, _now_hour(now).isoformat(), agency_id,
+             settings.hazard_horizon_hours, settings.outlook_hours, settings.refresh_seconds)  # fmt: skip
+    return hashlib.sha256(repr(parts).encode()).hexdigest()[:20]
 
 
-_memo: dict[tuple[str, str], AgencyHazards] = {}
-_memo_lock = threading.Lock()
-_MEMO_SIZE = 256
+_memo: VersionMemo[AgencyHazards] = VersionMemo(256)
+_json_memo: VersionMemo[bytes] = VersionMemo(256)
 
 
 def agency_hazards_at(session: Session, agency_id: str, version: str) -> AgencyHazards:
     """`agency_hazards` memoised per data version (`hazard_version`): hundreds of pollers between two
-    ingests share one computation per process."""
-    key = (agency_id, version)
-    with _memo_lock:
-        hit = _memo.get(key)
-    if hit is not None:
-        return hit
-    body = agency_hazards(session, agency_id)
-    with _memo_lock:
-        if len(_memo) >= _MEMO_SIZE:
-            _memo.clear()
-        _memo[key] = body
-    return body
+    ingests share one computation per process (the outlooks behind it are computed once for all
+    processes, app.services.outlook_cache)."""
+    return _memo.get_or_make((agency_id, version), lambda: agency_hazards(session, agency_id))
 
 
-__all__ = ["agency_hazards", "agency_hazards_at", "hazard_version"]
+def cached_json(agency_id: str, version: str) -> bytes | None:
+    """The bytes `agency_hazards_json` made for this version, if this process made them."""
+    return _json_memo.get((agency_id, version))
+
+
+def agency_hazards_json(session: Session, agency_id: str, version: str) -> bytes:
+    """The JSON bytes of `agency_hazards_at`, serialised once per data version."""
+    return _json_memo.get_or_make(
+        (agency_id, version), lambda: agency_hazards_at(session, agency_id, version).model_dump_json().encode()
+    )
+
+
+__all__ = ["agency_hazards", "agency_hazards_at", "agency_hazards_json", "cached_json", "hazard_tag", "hazard_version"]

@@ -3,7 +3,10 @@
 `outlook_key` hashes exactly an outlook's inputs; a stored row with that key is answered as it
 is. Single flight: when many requests find the same outlook out of date at once (pollers right
 after an ingest), one computes it and the others answer with the previous outlook meanwhile
-rather than all computing the same thing (only a first-ever outlook makes them wait).
+rather than all computing the same thing (only a first-ever outlook makes them wait). The flight
+is single across processes too: on PostgreSQL the one computing also holds a transaction-level
+advisory lock of the (spot, variant), so with `serve --workers N` a new ingest is computed once,
+not once per process (the others answer the previous outlook, or wait for a first one and read it).
 """
 
 from __future__ import annotations
@@ -15,7 +18,7 @@ import threading
 from datetime import datetime, timedelta
 from typing import Any
 
-from sqlalchemy import select
+from sqlalchemy import select, text
 from sqlalchemy.orm import Session
 
 from app.db.tables import OutlookCache, Source, utcnow
@@ -87,6 +90,25 @@ def inflight_lock(spot_id: str, variant_id: str) -> threading.Lock:
         return _inflight.setdefault((spot_id, variant_id), threading.Lock())
 
 
+def _advisory_key(spot_id: str, variant_id: str) -> int:
+    """A signed 64-bit key for PostgreSQL's advisory locks, from the (spot, variant)."""
+    digest = hashlib.sha256(f"outlook:{spot_id}:{variant_id}".encode()).digest()
+    return int.from_bytes(digest[:8], "big", signed=True)
+
+
+def database_lock(session: Session, spot_id: str, variant_id: str, *, wait: bool) -> bool:
+    """Hold the (spot, variant) across processes until this transaction ends (PostgreSQL advisory
+    lock); False when another process holds it and `wait` is off. Other databases: True (one
+    process per SQLite file is the supported setup; the process-wide lock covers it)."""
+    if session.get_bind().dialect.name != "postgresql":
+        return True
+    key = _advisory_key(spot_id, variant_id)
+    if wait:
+        session.execute(text("SELECT pg_advisory_xact_lock(:k)"), {"k": key})
+        return True
+    return bool(session.execute(text("SELECT pg_try_advisory_xact_lock(:k)"), {"k": key}).scalar())
+
+
 def cached_row(session: Session, spot_id: str, variant_id: str) -> OutlookCache | None:
     return session.scalars(
         select(OutlookCache)
@@ -112,6 +134,9 @@ def get_or_compute(session: Session, spot_id: str, **options: Any) -> tuple[Outl
         assert row is not None
         return OutlookBody.model_validate(row.body), False
     try:
+        if not database_lock(session, spot_id, v, wait=row is None):  # another process computes it
+            assert row is not None
+            return OutlookBody.model_validate(row.body), False
         row = cached_row(session, spot_id, v)
         if row is not None and row.input_hash == key:  # computed while we waited
             return OutlookBody.model_validate(row.body), False
@@ -122,7 +147,7 @@ def get_or_compute(session: Session, spot_id: str, **options: Any) -> tuple[Outl
             session.add(row)
         row.input_hash, row.stale, row.computed_at, row.body = key, False, utcnow(), data
         session.flush()
-        session.commit()  # publish before releasing the lock, so waiters find it
+        session.commit()  # publish before releasing the locks (the advisory one goes with it), so waiters find it
         return body, True
     finally:
         lock.release()

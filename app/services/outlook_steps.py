@@ -29,7 +29,7 @@ from models.hazard import HazardPolicy, hazard_level, near_high_water, rip_curre
 from models.offshore import OffshoreBatch
 from models.peel import PeelResult
 from models.surf import MIN_HEIGHT_M, PointSetup, SpotArrays
-from models.surf_peel import StepPeel, peel_one, step_peel
+from models.surf_peel import StepPeel, peel_one_many, step_peel
 
 CAUTIONS = HAZARD_CAUTIONS  # one wording everywhere (app.cautions)
 NO_PEEL: dict[str, Any] = dict(direction=None, angle_deg=None, first_point=None)  # nothing breaks
@@ -157,6 +157,7 @@ def step_dicts(
     if P == 1:
         one_hb, one_sets = arr.hb[0, :, 0].tolist(), arr.hb[0, :, 1].tolist()
         one_db, one_ang = arr.db[0, :, 0].tolist(), arr.angle_b[0, :, 0].tolist()
+        one_peel = peel_one_many(points[0], one_ang, one_db, one_hb)  # every step at once
     steps = []
     for t in range(nt):
         hv = hrows[t]
@@ -184,7 +185,7 @@ def step_dicts(
                 peel = dict(NO_PEEL)
             else:
                 big = names[0] if math.isfinite(one_sets[t]) else None
-                peel = peel_fields(peel_one(points[0], one_ang[t], one_db[t]), names[0], big, "breaking-angle")
+                peel = peel_fields(one_peel[t], names[0], big, "breaking-angle")
         else:
             sp = step_peel(points, arr, t, offshore_tp=float(batch.tp[t]), offshore_dir=float(batch.peak_dir[t]))
             peel = step_peel_fields(points, sp)

@@ -61,6 +61,8 @@ def test_travel_time_matches_the_ray_table_at_normal_incidence(beach):
     rays = transfer.build_tables(grid, [(-500.0, 0.0)], periods_s=[10.0], direction_bin_deg=10.0, **RAYS)[0]
     j = int(np.flatnonzero(tab.directions_deg == 270.0)[0])
     assert tab.travel_time_s[0, j] == pytest.approx(rays.travel_time_s[0, j], abs=2.0)
+    # the surf-zone profile is the ray table's (the outlook's surf-zone path uses it)
+    assert tab.profile is not None and np.array_equal(tab.profile.bed_m, rays.profile.bed_m)
 
 
 def _lens_grid():

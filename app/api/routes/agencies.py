@@ -1,7 +1,8 @@
 """Agencies: set policies (PUT), read them, poll hazards cheaply, and the Atom index of CAP alerts.
 
-The hazards ETag comes from `hazard_version` without building the body, so a poller's 304 costs
-one small query; the body carries the cautions.
+The hazards ETag comes from `hazard_version` (the data version, app.db.version) without building
+the body, so a poller's 304 costs one primary key read; the body carries the cautions and is
+serialised once per data version.
 """
 
 from __future__ import annotations
@@ -11,8 +12,19 @@ from typing import Any
 from fastapi import APIRouter, Request
 from starlette.responses import Response
 
-from app.api.deps import ApiKeyDep, SessionDep, SettingsDep, cache_control, conditional, json_response
-from app.api.http import etag_for
+from app.api.deps import (
+    VARY,
+    ApiKeyDep,
+    SessionDep,
+    SettingsDep,
+    cache_control,
+    conditional,
+    fresh,
+    json_response,
+    read_data_version,
+    request_session,
+)
+from app.api.http import etag_for, not_modified
 from app.api.routes._common import READ, WRITE, problems
 from app.api.routes.outlooks import ServiceUnavailable
 from app.db.tables import Agency, HazardPolicy
@@ -71,12 +83,20 @@ def get_agency(agency_id: str, request: Request, session: SessionDep, settings: 
     response_model=AgencyHazards,
     responses=problems(*READ, 503),
 )
-def get_hazards(agency_id: str, request: Request, session: SessionDep) -> Response:
+def get_hazards(agency_id: str, request: Request) -> Response:
     hazards = _hazards_module()
-    version = hazards.hazard_version(session, agency_id)
-    etag = etag_for("hazards-1", version)
-    return conditional(request, etag, lambda: json_response(hazards.agency_hazards_at(session, agency_id, version)),
-                       cache=cache_control(None, poll=True))  # type: ignore[arg-type]
+    version = hazards.hazard_tag(read_data_version(request), agency_id)
+    etag = etag_for("hazards-2", version)
+    cache = cache_control(None, poll=True)  # type: ignore[arg-type]
+    if fresh(request, etag):  # the pollers' path: one primary key read, nothing else
+        return not_modified(etag, cache_control=cache, vary=VARY)
+    body = hazards.cached_json(agency_id, version)
+    if body is not None:  # made at this data version, so the agency exists (a deletion moves the version)
+        return conditional(request, etag, lambda: Response(body, media_type="application/json"), cache=cache)
+    with request_session(request) as session:
+        agency_service.get_agency(session, agency_id)  # 404 before anything else
+        return conditional(request, etag, lambda: Response(hazards.agency_hazards_json(session, agency_id, version),
+                                                           media_type="application/json"), cache=cache)
 
 
 @router.get(

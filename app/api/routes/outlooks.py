@@ -1,27 +1,37 @@
 """Spot outlooks (the `shoalcast outlook --json` shape) and the outlook chart as SVG.
 
-The ETag is the data version: the spot and its tables, the newest input from each of its sources,
-the agency's policies, the options and (without `from`) the current hour the outlook starts at.
+The ETag is the data version (app.db.version, one primary key read; it moves with any change of the
+spot, its tables, sources and observations, or the agency's policies), the options and (without
+`from`) the current hour the outlook starts at. A matching If-None-Match is answered before
+anything else is read; a 200 of a cached outlook is bytes serialised once per ETag.
 """
 
 from __future__ import annotations
 
-import hashlib
 from datetime import UTC, datetime
 from typing import Annotated, Any, Literal
 
-import sqlalchemy as sa
 from fastapi import APIRouter, Query, Request
 from starlette.responses import Response
 
-from app.api.deps import SessionDep, SettingsDep, cache_control, conditional, json_response
-from app.api.http import etag_for
+from app.api.deps import (
+    VARY,
+    SettingsDep,
+    cache_control,
+    conditional,
+    fresh,
+    read_data_version,
+    request_session,
+)
+from app.api.http import etag_for, not_modified
 from app.api.routes._common import READ, problems
-from app.api.routes.spots import spots_version
-from app.db.tables import Agency, Calibration, HazardPolicy, Observation, Spot
+from app.db import version as data_version
+from app.db.tables import Agency, Spot
 from app.errors import BadInput, NotFound, ShoalcastError
 from app.schemas.outlooks import OutlookBody
 from app.services import spots as spot_service
+from app.services.memo import VersionMemo
+from app.services.outlook_compute import OUTLOOK_VERSION
 
 router = APIRouter(tags=["outlooks"])
 SERIALIZER = "outlook-api-1"
@@ -33,23 +43,16 @@ class ServiceUnavailable(ShoalcastError):
     title = "Service unavailable"
 
 
-def outlook_version(session: Any, spot: Spot, agency_id: str | None) -> str:
-    h = hashlib.sha256(spots_version(session, spot.id).encode())
-    for source_id in sorted(spot.sources):
-        row = session.execute(
-            sa.select(sa.func.count(), sa.func.max(Observation.ingested_at), sa.func.max(Observation.time))
-            .where(Observation.source_id == source_id)
-        ).one()
-        h.update(repr((source_id, tuple(row))).encode())
-    h.update(repr(session.execute(  # a calibration applied or removed changes the heights
-        sa.select(sa.func.count(), sa.func.max(Calibration.id), sa.func.max(Calibration.removed_at))
-        .where(Calibration.spot_id == spot.id)).one()).encode())
-    if agency_id is not None:
-        h.update(repr(session.execute(sa.select(Agency.updated_at).where(Agency.id == agency_id)).one_or_none()).encode())
-        for row in session.execute(sa.select(HazardPolicy.spot_key, HazardPolicy.updated_at).where(
-                HazardPolicy.agency_id == agency_id).order_by(HazardPolicy.spot_key)):
-            h.update(repr(tuple(row)).encode())
-    return h.hexdigest()
+def outlook_version(session: Any, spot: Spot | str, agency_id: str | None) -> str:
+    """The data version of a spot's outlook (app.db.version: bumped by every change of the spot, its
+    tables, sources, observations and the agency's policies) with the engine version: one primary
+    key read, so a 304 costs next to nothing."""
+    return outlook_tag(data_version.current(session), spot, agency_id)
+
+
+def outlook_tag(version: int, spot: Spot | str, agency_id: str | None) -> str:
+    """`outlook_version` from a data version already read."""
+    return repr((OUTLOOK_VERSION, version, spot if isinstance(spot, str) else spot.id, agency_id))
 
 
 def _parse_from(value: str | None) -> datetime | None:
@@ -84,14 +87,26 @@ AgencyQ = Annotated[str | None, Query(description="use this agency's hazard poli
                                       pattern=r"^[a-z0-9][a-z0-9-]*$")]
 
 
-def _prepare(session: Any, spot_id: str, agency: str | None, frm: str | None) -> tuple[Spot, datetime | None, str]:
+def _tag(request: Request, spot_id: str, agency: str | None, frm: str | None, kind: str, hours: int, units: str
+         ) -> tuple[datetime | None, str]:
+    """The start and the ETag of a representation: the data version, the start (without `from` the
+    current hour the outlook starts at) and the options."""
+    start = _parse_from(frm)
+    now_hour = datetime.now(UTC).replace(minute=0, second=0, microsecond=0)
+    version = outlook_tag(read_data_version(request), spot_id, agency)
+    return start, etag_for(SERIALIZER, kind, version, start or now_hour, hours, units, agency)
+
+
+def _check(session: Any, spot_id: str, agency: str | None) -> Spot:
     spot = spot_service.get_spot(session, spot_id)
     if agency is not None and session.get(Agency, agency) is None:
         raise NotFound(f"no agency with id {agency!r}")
-    start = _parse_from(frm)
-    now_hour = datetime.now(UTC).replace(minute=0, second=0, microsecond=0)
-    version = outlook_version(session, spot, agency)
-    return spot, start, etag_for(version, start or now_hour)
+    return spot
+
+
+# Serialised bodies per ETag (the ETag holds the data version, so an entry is never out of date):
+# pollers of a cached outlook get bytes, not a re-read and re-serialised body per request.
+_bodies: VersionMemo[bytes] = VersionMemo(64)
 
 
 @router.get(
@@ -101,17 +116,32 @@ def _prepare(session: Any, spot_id: str, agency: str | None, frm: str | None) ->
     responses=problems(*READ, 409, 503),
 )
 def get_outlook(
-    spot_id: str, request: Request, session: SessionDep, settings: SettingsDep,
+    spot_id: str, request: Request, settings: SettingsDep,
     hours: Hours = 72, units: UnitsQ = "metric", frm: FromQ = None, agency: AgencyQ = None,
 ) -> Response:
-    spot, start, version = _prepare(session, spot_id, agency, frm)
-    etag = etag_for(SERIALIZER, "json", version, hours, units, agency)
+    start, etag = _tag(request, spot_id, agency, frm, "json", hours, units)
+    cache = cache_control(settings)
+    if fresh(request, etag):
+        return not_modified(etag, cache_control=cache, vary=VARY)
+    body = _bodies.get(etag)
+    if body is not None:  # made at this data version, so the spot and agency exist (a deletion moves it)
+        return conditional(request, etag, lambda: Response(body, media_type="application/json"), cache=cache)
+    with request_session(request) as session:
+        return _answer_json(request, session, spot_id, agency, etag, cache, hours, start, units)
+
+
+def _answer_json(request: Request, session: Any, spot_id: str, agency: str | None, etag: str, cache: str,
+                 hours: int, start: datetime | None, units: str) -> Response:
+    spot = _check(session, spot_id, agency)
 
     def build() -> Response:
-        body = _outlook(session, spot.id, hours=hours, start=start, units=units, agency_id=agency)
-        return json_response(body)
+        def make() -> bytes:
+            body = _outlook(session, spot.id, hours=hours, start=start, units=units, agency_id=agency)
+            return body.model_dump_json().encode()
 
-    return conditional(request, etag, build, cache=cache_control(settings))
+        return Response(_bodies.get_or_make(etag, make), media_type="application/json")
+
+    return conditional(request, etag, build, cache=cache)
 
 
 @router.get(
@@ -122,11 +152,20 @@ def get_outlook(
                **problems(*READ, 409, 503)},
 )
 def get_outlook_svg(
-    spot_id: str, request: Request, session: SessionDep, settings: SettingsDep,
+    spot_id: str, request: Request, settings: SettingsDep,
     hours: Hours = 72, units: UnitsQ = "metric", frm: FromQ = None, agency: AgencyQ = None,
 ) -> Response:
-    spot, start, version = _prepare(session, spot_id, agency, frm)
-    etag = etag_for(SERIALIZER, "svg", version, hours, units, agency)
+    start, etag = _tag(request, spot_id, agency, frm, "svg", hours, units)
+    cache = cache_control(settings)
+    if fresh(request, etag):
+        return not_modified(etag, cache_control=cache, vary=VARY)
+    with request_session(request) as session:
+        return _answer_svg(request, session, spot_id, agency, etag, cache, hours, start, units)
+
+
+def _answer_svg(request: Request, session: Any, spot_id: str, agency: str | None, etag: str, cache: str,
+                hours: int, start: datetime | None, units: str) -> Response:
+    spot = _check(session, spot_id, agency)
 
     def build() -> Response:
         from app.formats.svg_outlook import outlook_svg
@@ -135,7 +174,7 @@ def get_outlook_svg(
         steps = body.model_dump(mode="json")["steps"]
         return Response(outlook_svg(steps, units=units, spot_name=spot.name), media_type=SVG_MEDIA_TYPE)
 
-    return conditional(request, etag, build, cache=cache_control(settings))
+    return conditional(request, etag, build, cache=cache)
 
 
 __all__ = ["ServiceUnavailable", "outlook_version", "router"]
