@@ -4,7 +4,9 @@
    scipy.integrate.solve_ivp (RK45) at equal accuracy (end direction error vs a fine reference);
 2. a full set of tables: 20 km × 20 km grid at 20 m, 32 periods, 0.25° launch spacing, 5 break
    points, on a process pool over (point, period-chunk), with wall time and memory peak;
-3. a refraction-diffraction table of one demo spot against its ray table (issue 14), memory peak.
+3. a refraction-diffraction table of one demo spot against its ray table (issue 14), memory peak;
+4. one point's table with a regional grid around the local one (rays handed on to it out to the
+   wave base) against the local grid alone (issue 12: aim at most 1.5x).
 """
 
 from __future__ import annotations
@@ -38,6 +40,19 @@ def synthetic_coast(size_m: float = 20000.0, dx: float = 20.0) -> DepthGrid:
     d = d + np.where(d > 1, rng.normal(0, 0.3, d.shape), 0)
     d[(X - 12000 * s) ** 2 + (Y - 15000 * s) ** 2 < (600 * s) ** 2] = -5.0
     return DepthGrid(d, 0.0, 0.0, dx, dx)
+
+
+def regional_coast(local_size_m: float, dx: float = 200.0, reach_m: float = 40000.0) -> DepthGrid:
+    """The synthetic coast's plane continued seaward (east) to `reach_m` on coarse cells, down to
+    1500 m instead of the local 300 m cap, covering the local grid with 4 km to spare north and south."""
+    s = local_size_m / 20000.0
+    x = np.arange(0.0, reach_m + dx / 2, dx)
+    y = np.arange(-4000.0, local_size_m + 4000.0 + dx / 2, dx)
+    X, Y = np.meshgrid(x, y)
+    shore = 2000 * s + 800 * s * np.exp(-(((Y - 10000 * s) / (1500 * s)) ** 2))
+    d = (X - shore) * 0.02
+    d = np.where(d > 0, np.minimum(d, 10 + (d - 10) * 2.0), d)
+    return DepthGrid(np.minimum(d, 1500.0), float(x[0]), float(y[0]), dx, dx)
 
 
 def _ivp_rays(grid, x0, y0, thetas, period, lengths, rtol):
@@ -202,8 +217,37 @@ def bench_refraction_diffraction(quick: bool) -> list[dict]:
     ]
 
 
+def bench_regional(quick: bool) -> list[dict]:
+    size = 8000.0 if quick else 20000.0
+    grid = synthetic_coast(size, 20.0)
+    region = regional_coast(size)
+    s = size / 20000.0
+    pt = [(2000.0 * s + 600.0, 4000.0 * s)]
+    nper = 8 if quick else 32
+    kw = dict(periods_s=np.round(np.geomspace(4.0, 25.0, nper), 3), launch_spacing_deg=0.25, smoothing_m=100.0)
+    t0 = time.perf_counter()
+    alone = build_tables(grid, pt, **kw)[0]
+    t_local = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    nested = build_tables(grid, pt, regional=[region], **kw)[0]
+    t_nested = time.perf_counter() - t0
+    # share of the table's energy (Σ K² over periods and directions) that rests on assumed contours
+    cont = [float((t.coefficient**2 * t.continued_fraction).sum() / (t.coefficient**2).sum()) for t in (alone, nested)]
+    n = grid.shape[0]
+    return [
+        {
+            "benchmark": f"tables: one point, {n}x{n} local grid at 20 m + {region.shape[1]}x{region.shape[0]} regional at 200 m vs local alone",
+            "result": f"nested {t_nested:.1f} s vs local alone {t_local:.1f} s ({nper} periods, serial); "
+            f"energy on assumed straight contours beyond the edges {cont[0]:.0%} -> {cont[1]:.0%}",
+            "ratio": t_nested / t_local,
+            "ratio_of": "with regional grid / local grid alone",
+            "target": "<= 1.5x",
+        },
+    ]
+
+
 def run(quick: bool = False) -> list[dict]:
-    return bench_kernel(quick) + bench_tables(quick) + bench_refraction_diffraction(quick)
+    return bench_kernel(quick) + bench_tables(quick) + bench_refraction_diffraction(quick) + bench_regional(quick)
 
 
 if __name__ == "__main__":

@@ -14,14 +14,20 @@ direction. Each ray ends
     OPEN     it leaves the grid through an open-ocean edge (`open_edges`) where the depth is at
              least min(`edge_min_depth`, wave base), and, if it is still short of its wave base
              there, Snell's law over the contours extended beyond the edge lets it reach deep
-             water (it heads seaward and is not trapped along the coast);
+             water (it heads seaward and is not trapped along the coast). Such a ray is
+             *continued*: beyond the edge the contours are taken straight and parallel to the
+             contour where it left (the edge itself where the bottom there is flat), and Snell's
+             law sin α0 / C0 = sin αe / Ce (Munk & Arthur 1952) gives its deep-water direction
+             `offshore_theta`; `continued` marks it;
     BLOCKED  depth < `min_depth` (land, sheltering); or a bottom slope steeper than `max_slope`
              (default 1:3, about where the mild-slope approximation behind ray refraction stops
              holding, Booij 1983, from memory): a cliff, jetty or island wall, which a grid can
              only show as a one-cell ramp, reflects or breaks the wave rather than bending it
              round (without this, rays grazing such a ramp refract into its shadow); or it
              leaves the grid through a shallow spot or an edge that is not open ocean;
-    LOST     step budget `max_steps` used up (counted, reported by the caller).
+    LOST     step budget `max_steps` used up (counted, reported by the caller);
+    PASSED   it left the grid where `pass_through(x, y)` is true (a coarser grid around this one
+             takes it on): its state at the exit point is returned, to be traced further there.
 Beyond the wave base (depth > wave_base_fraction·L0, common practice: half the deep-water
 wavelength) the bottom no longer bends a ray, so its offshore direction and exit state are taken
 where it crossed the wave base. It is not declared open there, though: it goes on in a straight
@@ -34,7 +40,7 @@ refracts again and its later wave-base crossing counts.
 from __future__ import annotations
 
 import math
-from collections.abc import Collection
+from collections.abc import Callable, Collection
 from typing import NamedTuple
 
 import numpy as np
@@ -45,9 +51,9 @@ from models.constants import TWO_PI, G
 from models.errors import InvalidInput
 from models.waves import group_velocity_ratio, wavenumber
 
-__all__ = ["BLOCKED", "EDGES", "LOST", "OPEN", "RayResult", "dispersion_table", "trace_rays"]
+__all__ = ["BLOCKED", "EDGES", "LOST", "OPEN", "PASSED", "RayResult", "dispersion_table", "trace_rays"]
 
-OPEN, BLOCKED, LOST = 0, 1, 2
+OPEN, BLOCKED, LOST, PASSED = 0, 1, 2, 3
 
 # Dimensionless table in u = sqrt(k0 h): columns [Q, u/G, u/(G n)], G = C/C0, n = Cg/C (all smooth
 # in u down to 0, where G ~ u; the kernel divides by u).
@@ -94,7 +100,10 @@ class RayResult(NamedTuple):
 
     `theta` is the direction of travel at the end (for a backward-traced ray: pointing away from
     the target, so the wave there comes FROM `theta`). `depth` is the depth where the ray ended
-    (the exit depth). `path` is (n_iter + 1, n, 2) positions when asked for, else None.
+    (the exit depth). `offshore_theta` is the direction in deep water: `theta`, except for open
+    rays that left an edge short of their wave base (`continued`), where it follows from Snell's
+    law over straight contours beyond the edge. `path` is (n_iter + 1, n, 2) positions when
+    asked for, else None.
     """
 
     status: NDArray[np.int8]
@@ -106,6 +115,8 @@ class RayResult(NamedTuple):
     crest_time: NDArray[np.float64]
     energy_time: NDArray[np.float64]
     steps: NDArray[np.int64]
+    offshore_theta: NDArray[np.float64]
+    continued: NDArray[np.bool_]
     path: NDArray[np.float64] | None = None
 
     @property
@@ -148,27 +159,43 @@ def _edge_of(x: NDArray[np.float64], y: NDArray[np.float64], extent) -> NDArray[
     return np.argmin(np.abs(dist), axis=-1)
 
 
-def _reaches_deep(smp: NDArray[np.float64], theta: NDArray[np.float64], k0: NDArray[np.float64]) -> NDArray[np.bool_]:
-    """For a ray leaving the grid short of its wave base: could it have come from deep water?
+# below this bottom slope the edge's own direction stands for the contours beyond it (a noisy,
+# nearly flat edge has no contour direction worth extrapolating)
+_FLAT_SLOPE = 1e-4
 
-    Beyond the edge the bottom is taken as continuing with the local contours straight and
-    parallel, where Snell's invariant sin(α)/C is conserved (α from the seaward contour normal,
-    the direction of ∇h). The ray reaches deep water if it heads seaward (cos α > 0) and
-    sin α < C/C0; otherwise it would run ashore or turn back before deep water (a trapped ray
-    running along the coast): it brings no offshore swell. A flat edge gives no contour to
-    extrapolate and counts as reaching deep water.
+_EDGE_NORMALS = np.array([[0.0, -1.0], [0.0, 1.0], [-1.0, 0.0], [1.0, 0.0]])  # outward, per EDGES
+
+
+def _continue_to_deep(
+    smp: NDArray[np.float64], theta: NDArray[np.float64], k0: NDArray[np.float64], side: NDArray[np.intp]
+) -> tuple[NDArray[np.bool_], NDArray[np.float64]]:
+    """For rays leaving the grid short of their wave base: can they come from deep water, and from
+    which direction?
+
+    Beyond the edge the bottom is taken as straight, parallel contours: those at the exit point
+    (seaward normal n = ∇h/|∇h|), or parallel to the edge (n = its outward normal) where the
+    bottom there is flat. Along the continued ray Snell's invariant sin α / C is conserved
+    (α from n), so sin α0 = sin αe · C0/Ce in deep water (Munk & Arthur 1952; SPM 1984 §2-III).
+    The ray reaches deep water if it heads seaward (cos αe > 0) and sin αe < Ce/C0; otherwise
+    it would run ashore or turn back first (a trapped ray running along the coast) and brings no
+    offshore swell. Returns (reaches, deep-water direction [rad, math]).
     """
     h = np.maximum(smp[:, 0], _H_FLOOR)
     gx, gy = smp[:, 1], smp[:, 2]
     gn = np.hypot(gx, gy)
-    cs, sn = np.cos(theta), np.sin(theta)
-    flat = gn < 1e-6
+    flat = gn < _FLAT_SLOPE
     gns = np.where(flat, 1.0, gn)
-    cos_a = (cs * gx + sn * gy) / gns
-    sin_a = np.abs(cs * gy - sn * gx) / gns
+    nx = np.where(flat, _EDGE_NORMALS[side, 0], gx / gns)
+    ny = np.where(flat, _EDGE_NORMALS[side, 1], gy / gns)
+    cs, sn = np.cos(theta), np.sin(theta)
+    cos_a = cs * nx + sn * ny
+    sin_a = nx * sn - ny * cs  # signed: positive counter-clockwise from n
     u = np.sqrt(k0 * h)
-    c_ratio = u / _lookup(u)[:, 1]  # C/C0
-    return flat | ((cos_a > 0) & (sin_a < c_ratio))
+    c_ratio = u / _lookup(u)[:, 1]  # Ce/C0
+    reaches = (cos_a > 0) & (np.abs(sin_a) < c_ratio)
+    s0 = np.clip(sin_a / c_ratio, -1.0, 1.0)
+    theta0 = np.arctan2(ny, nx) + np.arcsin(s0)
+    return reaches, np.where(reaches, theta0, theta)
 
 
 def trace_rays(
@@ -189,6 +216,7 @@ def trace_rays(
     adaptive: bool = True,
     max_steps: int = 20000,
     record_path: bool = False,
+    pass_through: Callable[[NDArray[np.float64], NDArray[np.float64]], NDArray[np.bool_]] | None = None,
 ) -> RayResult:
     """Trace rays from (x, y) [m] heading `theta` [rad, math] for wave period `period_s` [s].
 
@@ -196,7 +224,8 @@ def trace_rays(
     `adaptive=False` keeps every step exactly `step_m` (used by reversibility checks).
     `wave_base_fraction=np.inf` disables the wave-base test. `open_edges` names the grid edges
     that are open ocean (see `DepthGrid.deep_edges(...).open_edges()`; None: all four). See the
-    module docstring for fates.
+    module docstring for fates. `pass_through(x, y)` (vectorised) marks exit points where
+    rays are handed on to an enclosing grid (status PASSED, state at the exit point).
     """
     x, y, theta, period = (np.array(a, dtype=float).ravel() for a in np.broadcast_arrays(x, y, theta, period_s))
     for name, a in (("x", x), ("y", y), ("theta", theta)):
@@ -228,7 +257,8 @@ def trace_rays(
     edge_open = _edge_names(open_edges)
 
     out_status = np.full(n, LOST, dtype=np.int8)
-    out = {k: np.zeros(n) for k in ("x", "y", "theta", "length", "ct", "et", "depth")}
+    out = {k: np.zeros(n) for k in ("x", "y", "theta", "length", "ct", "et", "depth", "theta0")}
+    out_cont = np.zeros(n, dtype=bool)
     out_steps = np.zeros(n, dtype=np.int64)
 
     # Active-ray state, columns x, y, theta, s, crest time, energy time. `prev` is the state before
@@ -255,13 +285,16 @@ def trace_rays(
         uc = u * c0v
         return np.stack([cs, sn, kap, tab[:, 1] / uc, tab[:, 2] / uc], axis=-1), smp
 
-    def finish(sel, status, state, depth):
+    def finish(sel, status, state, depth, theta0=None, cont=None):
         r = idx[sel]
         out_status[r] = status
         s = state[sel]
         for j, key in enumerate(("x", "y", "theta", "length", "ct", "et")):
             out[key][r] = s[:, j]
         out["depth"][r] = depth[sel]
+        out["theta0"][r] = s[:, 2] if theta0 is None else theta0[sel]
+        if cont is not None:
+            out_cont[r] = cont[sel]
         out_steps[r] = it
 
     it = 0
@@ -364,18 +397,27 @@ def trace_rays(
             smp = grid.sample(st[sel, 0], st[sel, 1])
             he = smp[:, 0]
             side = _edge_of(st[sel, 0], st[sel, 1], grid.extent)
-            ok = (he >= edge_depth[sel]) & edge_open[side] & (deep[sel] | _reaches_deep(smp, st[sel, 2], k0[sel]))
+            reach, th0 = _continue_to_deep(smp, st[sel, 2], k0[sel], side)
+            ok = (he >= edge_depth[sel]) & edge_open[side] & (deep[sel] | reach)
+            handed = np.zeros(sel.size, dtype=bool) if pass_through is None else pass_through(st[sel, 0], st[sel, 1])
             m_open = np.zeros(idx.size, dtype=bool)
             m_block = np.zeros(idx.size, dtype=bool)
-            m_open[sel[ok]] = True
-            m_block[sel[~ok]] = True
+            m_pass = np.zeros(idx.size, dtype=bool)
+            m_open[sel[ok & ~handed]] = True
+            m_block[sel[~ok & ~handed]] = True
+            m_pass[sel[handed]] = True
             hx = np.zeros(idx.size)
             hx[sel] = he
             # a ray that was deep when it left reports its wave-base crossing, others the edge
+            # (and their deep-water direction by Snell over the contours beyond it)
             dp = m_open & deep
             fin = np.where(dp[:, None], saved, st)
-            finish(m_open, OPEN, fin, np.where(dp, hsv, hx))
+            cont = m_open & ~deep
+            theta0 = fin[:, 2].copy()
+            theta0[sel] = np.where(deep[sel], theta0[sel], th0)
+            finish(m_open, OPEN, fin, np.where(dp, hsv, hx), theta0, cont)
             finish(m_block, BLOCKED, st, hx)
+            finish(m_pass, PASSED, st, hx)
             keep = ~out_x
             idx, st, prev, hp, saved, hsv, deep, h_deep, k0, c0, base, edge_depth = (
                 a[keep] for a in (idx, st, prev, hp, saved, hsv, deep, h_deep, k0, c0, base, edge_depth)
@@ -391,5 +433,7 @@ def trace_rays(
         crest_time=out["ct"],
         energy_time=out["et"],
         steps=out_steps,
+        offshore_theta=out["theta0"],
+        continued=out_cont,
         path=np.stack(path) if path is not None else None,
     )

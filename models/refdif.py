@@ -344,4 +344,5 @@ def _merge(tab, results, refused, aperture, opts) -> transfer.TransferTable:
         lost_fraction_by_period=tab.lost_fraction_by_period, reference_depth_m=tab.reference_depth_m,
         reference_x=tab.reference_x, reference_y=tab.reference_y, lost_fraction=tab.lost_fraction, meta=meta,
         profile=tab.profile,  # the surf-zone profile of the ray table (models.surfzone)
+        continued_fraction=np.where(source == 1, 0.0, tab.continued_fraction),
     )  # fmt: skip

@@ -475,10 +475,20 @@ def compass_to_fourier(a1: ArrayLike, b1: ArrayLike, a2: ArrayLike, b2: ArrayLik
 
 
 def missing_coefficients(r1: ArrayLike, r2: ArrayLike, alpha1_deg: ArrayLike, alpha2_deg: ArrayLike) -> NDArray[np.bool_]:
-    """True where any of the four NDBC coefficients is missing (NaN or inf); those frequencies get an
-    isotropic distribution in `directional_spectrum_from_coefficients`."""
+    """True where any of the four NDBC coefficients is missing (NaN or inf); those frequencies take
+    coefficients interpolated from their neighbours in `directional_spectrum_from_coefficients`."""
     arrs = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in (r1, r2, alpha1_deg, alpha2_deg)))
     return ~np.all([np.isfinite(a) for a in arrs], axis=0)
+
+
+def _fill_missing_bands(f, missing, r1, r2, al1, al2):
+    """NDBC coefficients with the `missing` bands interpolated (as a1..b2, linear in frequency) from
+    the complete ones."""
+    good = ~missing
+    c = ndbc_to_fourier(r1[good], r2[good], al1[good], al2[good])
+    filled = Coefficients(*(np.interp(f, f[good], v) for v in c))
+    n = fourier_to_ndbc(*filled)
+    return tuple(np.where(missing, new, old) for new, old in zip(n, (r1, r2, al1, al2), strict=True))
 
 
 def _mem(th: NDArray[np.float64], c: Coefficients) -> NDArray[np.float64]:
@@ -524,8 +534,12 @@ def directional_spectrum_from_coefficients(
 
     Each row of D is normalised so that Σ D Δθ = 1 on the given directions, so the frequency
     spectrum is kept exactly. Frequencies whose coefficients are missing (see
-    `missing_coefficients`), or where MEM has no valid solution, fall back to an isotropic
-    distribution (resp. the weighted series); the result never contains NaN.
+    `missing_coefficients`) take a1, b1, a2, b2 interpolated linearly in frequency from the nearest
+    complete bands (held beyond the first and last): a band's energy keeps coming from the
+    directions its neighbours show, never from every direction, land included. The set of
+    admissible first-five moments is convex, so the interpolated coefficients are admissible when
+    their neighbours are. Only when no band has coefficients is the distribution isotropic. Where
+    MEM has no valid solution the weighted series is used; the result never contains NaN.
     """
     f = _frequency_iv(frequency)
     e = _density_iv(density, f.size)
@@ -548,6 +562,8 @@ def directional_spectrum_from_coefficients(
             raise InvalidInput(f"`{name}` must be in 0..1, got {bad!r}")
     r1_ = np.minimum(r1_, 1.0)
     r2_ = np.minimum(r2_, 1.0)
+    if missing.any() and not missing.all():
+        r1_, r2_, al1, al2 = _fill_missing_bands(f, missing, r1_, r2_, al1, al2)
     dth = direction_bin_widths(d)
 
     def series(w1: float, w2: float) -> NDArray[np.float64]:
@@ -564,7 +580,8 @@ def directional_spectrum_from_coefficients(
         D = _mem(nautical_from_to_math(d), ndbc_to_fourier(r1_, r2_, al1, al2))
         bad = ~np.all(np.isfinite(D) & (D >= 0), axis=-1)
         D = np.where(bad[:, None], weighted, D)
-    D = np.where(missing[:, None], 1.0 / TWO_PI, D)
+    if missing.all():  # nothing to interpolate from
+        D = np.full_like(D, 1.0 / TWO_PI)
     total = np.sum(D * dth, axis=-1)
     D = np.where((total > 0)[:, None], D / np.where(total > 0, total, 1.0)[:, None], 1.0 / TWO_PI)
     return e[:, None] * D

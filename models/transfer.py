@@ -6,10 +6,13 @@ launch measure dβ that maps into offshore direction bin k (width Δθ0) gives
 
     K²(f, θ0_k) = (1/Δθ0) ∫_{β → bin k} (C·Cg)_exit / (C·Cg)_ref dβ,
 
-with (C·Cg) taken at the depth where the ray ended (its wave-base crossing, or an open-ocean
-edge in intermediate depth; see `models.rays` for fates). Each pair of neighbouring open rays is
-an *interval* [β_i, β_i+1] -> [θ0_i, θ0_i+1] whose measure is spread uniformly over the offshore
-directions it covers (no ray-counting noise).
+with (C·Cg)_exit = C0·Cg0 = g²/(2ω²), deep water: a ray ends open at its wave-base crossing
+(beyond it the bottom no longer matters, common practice) or where it leaves an open-ocean edge
+short of it, and is then continued to deep water over straight contours beyond the edge (Snell;
+see `models.rays`), which moves its offshore direction, not the invariant. Such directions are
+marked per bin (`continued_fraction`: the share of the bin's energy carried by continued rays).
+Each pair of neighbouring open rays is an *interval* [β_i, β_i+1] -> [θ0_i, θ0_i+1] whose measure
+is spread uniformly over the offshore directions it covers (no ray-counting noise).
 
 Adaptive launch refinement: the launch circle (spacing `launch_spacing_deg`) is subdivided up to
 `refine_levels` times (factor 2 each, default 6: 1/64 of the spacing) wherever two neighbouring
@@ -49,7 +52,7 @@ from numpy.typing import ArrayLike, NDArray
 from models.bathymetry import DepthGrid
 from models.constants import G
 from models.errors import InvalidInput
-from models.rays import BLOCKED, EDGES, LOST, OPEN, trace_rays
+from models.rays import BLOCKED, EDGES, LOST, OPEN, PASSED, trace_rays
 from models.surfzone import SurfProfile, extract_profile, profile_bearing
 from models.waves import group_velocity, phase_speed
 
@@ -64,9 +67,12 @@ __all__ = [
     "input_hash",
     "reference_point",
     "swell_window",
+    "wave_base_period_s",
 ]
 
-ENGINE_VERSION = "shoalcast-rays-3"  # 3: tables carry the surf-zone depth profile (models.surfzone)
+# 3: tables carry the surf-zone depth profile (models.surfzone); 4: rays leaving an edge short of the
+# wave base are continued to deep water (Snell), the invariant is read as C0·Cg0, regional grids
+ENGINE_VERSION = "shoalcast-rays-4"
 
 # 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
 DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
@@ -94,6 +100,9 @@ class TransferTable:
                               beyond the ray's end; comparable between points of one grid (peel)
     energy_travel_time_s      the same with group speed (energy)
     open_fraction             fraction of the bin's width covered by rays that reach the point
+    continued_fraction        share of the bin's energy from rays continued beyond a grid edge
+                              over assumed straight contours (0 where none; all 0 in tables
+                              stored before it existed)
     lost_fraction             rays that used up the step budget / all rays (by period in
                               `lost_fraction_by_period`)
     profile                   the bed from the reference point to the shore along the direction the
@@ -116,6 +125,11 @@ class TransferTable:
     lost_fraction: float
     meta: dict[str, Any] = field(default_factory=dict)
     profile: SurfProfile | None = None
+    continued_fraction: NDArray[np.float64] | None = None
+
+    def __post_init__(self) -> None:
+        if self.continued_fraction is None:
+            object.__setattr__(self, "continued_fraction", np.zeros(np.shape(self.coefficient)))
 
     @property
     def direction_bin_deg(self) -> float:
@@ -134,6 +148,7 @@ class TransferTable:
                 "energy_travel_time_s",
                 "open_fraction",
                 "lost_fraction_by_period",
+                "continued_fraction",
             )
         }
         out.update({k: float(getattr(self, k)) for k in _SCALARS})
@@ -156,9 +171,11 @@ class TransferTable:
         kw.update({k: float(data[k]) for k in _SCALARS})
         kw["meta"] = json.loads(data.get("meta_json", "{}"))
         kw["profile"] = SurfProfile.from_arrays(data)
+        if "continued_fraction" in data:  # absent in tables stored before it existed
+            kw["continued_fraction"] = np.asarray(data["continued_fraction"], dtype=float)
         t = cls(**kw)
         npd = (t.periods_s.size, t.directions_deg.size)
-        for k in names[2:7]:
+        for k in [*names[2:7], "continued_fraction"]:
             if getattr(t, k).shape != npd:
                 raise InvalidInput(f"`{k}` has shape {getattr(t, k).shape}, expected {npd}")
         return t
@@ -258,10 +275,12 @@ def _point_bin(d, q, nd: int, width: float) -> NDArray[np.float64]:
     return np.stack([np.bincount(k, weights=q[:, c], minlength=nd) for c in range(q.shape[1])], axis=-1)
 
 
-def _map_period(status, d_off, beta_near, w, tc, te, gap, unit: float, nd: int, width: float, fold: float):
+def _map_period(status, d_off, beta_near, w, tc, te, cont, gap, unit: float, nd: int, width: float, fold: float):
     """Interval mapping for one period. Inputs (nr,) in launch order (cyclic); `gap` (nr,) is the
-    launch measure from each ray to the next in units of `unit` [deg]. Returns the per-bin sums
-    (nd, 6) and the unresolved launch measure [deg] (split pairs with an open end)."""
+    launch measure from each ray to the next in units of `unit` [deg]; `cont` (nr,) 1.0 for rays
+    continued beyond an edge. Returns the per-bin sums (nd, 7: energy, its direction vector,
+    crest and energy times, covered width, continued energy) and the unresolved launch measure
+    [deg] (split pairs with an open end)."""
     nxt = np.roll(np.arange(status.size), -1)
     op = status == OPEN
     jump = ((d_off[nxt] - d_off + 180.0) % 360.0) - 180.0
@@ -280,17 +299,22 @@ def _map_period(status, d_off, beta_near, w, tc, te, gap, unit: float, nd: int, 
     bm = np.radians(beta_near[a] + 0.5 * bjump[a])
     m = meas[a] * wm
     q = np.stack(
-        [m, m * np.cos(bm), m * np.sin(bm), m * 0.5 * (tc[a] + tc[b]), m * 0.5 * (te[a] + te[b]), hi - lo],
+        [m, m * np.cos(bm), m * np.sin(bm), m * 0.5 * (tc[a] + tc[b]), m * 0.5 * (te[a] + te[b]), hi - lo,
+         m * 0.5 * (cont[a] + cont[b])],
         axis=-1,
-    )
-    acc = _cdf_bin(lo, hi, q, nd, width) if a.size else np.zeros((nd, 6))
+    )  # fmt: skip
+    acc = _cdf_bin(lo, hi, q, nd, width) if a.size else np.zeros((nd, 7))
 
     # tiny intervals (both ends at one offshore direction): the whole measure at that direction
     t = np.flatnonzero(tiny)
     if t.size:
         pm = meas[t] * 0.5 * (w[t] + w[nxt[t]])
         br = np.radians(beta_near[t] + 0.5 * bjump[t])
-        qp = np.stack([pm, pm * np.cos(br), pm * np.sin(br), pm * tc[t], pm * te[t], np.zeros(t.size)], axis=-1)
+        qp = np.stack(
+            [pm, pm * np.cos(br), pm * np.sin(br), pm * tc[t], pm * te[t], np.zeros(t.size),
+             pm * 0.5 * (cont[t] + cont[nxt[t]])],
+            axis=-1,
+        )  # fmt: skip
         acc = acc + _point_bin(d_off[t], qp, nd, width)
     # split pairs (ends differ in fate, or jump past `fold`) are left at the finest launch step:
     # their measure is not assigned to any direction (see the module docstring)
@@ -298,17 +322,52 @@ def _map_period(status, d_off, beta_near, w, tc, te, gap, unit: float, nd: int, 
     return acc, unresolved
 
 
-def _trace(grid, x_ref, y_ref, beta_rad, periods, opts):
+def _trace_one(grid, x, y, theta, periods, opts, open_edges, step_m, outer):
+    def passes(px, py):  # exit points that an enclosing (later) grid covers
+        return np.any([g.contains(px, py) for g in outer], axis=0)
+
     return trace_rays(
-        grid, x_ref, y_ref, beta_rad, periods,
+        grid, x, y, theta, periods,
         g=opts["g"], min_depth=opts["min_depth"], wave_base_fraction=opts["wave_base_fraction"],
-        edge_min_depth=opts["edge_min_depth"], open_edges=opts["open_edges"], max_slope=opts["max_slope"],
-        step_m=opts["step_m"],
-        max_turn_rad=opts["max_turn_rad"], max_steps=opts["max_steps"],
+        edge_min_depth=opts["edge_min_depth"], open_edges=open_edges, max_slope=opts["max_slope"],
+        step_m=step_m, max_turn_rad=opts["max_turn_rad"], max_steps=opts["max_steps"],
+        pass_through=passes if outer else None,
     )  # fmt: skip
 
 
-_RAY_FIELDS = ("status", "theta", "x", "y", "depth", "crest_time", "energy_time")
+_ADDED = ("length", "crest_time", "energy_time", "steps")  # summed over the grids a ray crosses
+_TAKEN = ("status", "x", "y", "theta", "depth", "offshore_theta", "continued")  # from its last grid
+
+
+def _trace(grid, x_ref, y_ref, beta_rad, periods, opts):
+    """Trace on the local grid, then hand the rays that leave it on to the regional grids
+    (`opts["regional"]`, finest first): a ray goes on from its exit point, with its direction and
+    travel so far, in the first later grid that covers that point, and ends there by the same
+    rules (wave base, land, an open edge with continuation, or on to a coarser grid)."""
+    regional = opts.get("regional") or ()
+    levels = [(grid, opts["open_edges"], opts["step_m"])] + [(r["grid"], r["open_edges"], r["step_m"]) for r in regional]
+    outer = [lv[0] for lv in levels]
+    r = _trace_one(grid, x_ref, y_ref, beta_rad, periods, opts, levels[0][1], levels[0][2], outer[1:])
+    if not regional:
+        return r
+    per = np.broadcast_to(np.asarray(periods, dtype=float), r.status.shape)
+    out = {k: np.array(getattr(r, k)) for k in _ADDED + _TAKEN}
+    for lev in range(1, len(levels)):
+        g, open_edges, step = levels[lev]
+        wait = np.flatnonzero(out["status"] == PASSED)
+        here = wait[g.contains(out["x"][wait], out["y"][wait])]
+        if not here.size:
+            continue
+        rr = _trace_one(g, out["x"][here], out["y"][here], out["theta"][here], per[here], opts, open_edges, step, outer[lev + 1 :])
+        for k in _ADDED:
+            out[k][here] += getattr(rr, k)
+        for k in _TAKEN:
+            out[k][here] = getattr(rr, k)
+    out["status"][out["status"] == PASSED] = BLOCKED  # not reached: every exit a later grid covers is traced
+    return r._replace(**out)
+
+
+_RAY_FIELDS = ("status", "theta", "offshore_theta", "continued", "x", "y", "depth", "crest_time", "energy_time")
 
 
 def _refined_rays(grid, x_ref, y_ref, periods, opts) -> list[dict[str, NDArray]]:
@@ -335,7 +394,8 @@ def _refined_rays(grid, x_ref, y_ref, periods, opts) -> list[dict[str, NDArray]]
             gap = (d["u"][nxt] - d["u"]) % n_fine
             gap[gap == 0] = n_fine  # a single ray
             op = st == OPEN
-            jump = np.abs(((np.degrees(d["theta"][nxt] - d["theta"]) + 180.0) % 360.0) - 180.0)
+            th0 = d["offshore_theta"]
+            jump = np.abs(((np.degrees(th0[nxt] - th0) + 180.0) % 360.0) - 180.0)
             need = (gap > 1) & ((st != st[nxt]) | (op & op[nxt] & (jump > jlim)))
             k = np.flatnonzero(need)
             if k.size:
@@ -381,6 +441,7 @@ def _trace_table_rows(
     tt = np.full((periods.size, nd), np.nan)
     et = np.full((periods.size, nd), np.nan)
     of = np.zeros((periods.size, nd))
+    cf = np.zeros((periods.size, nd))
     lost = np.zeros(periods.size)
     blocked = np.zeros(periods.size)
     unresolved = np.zeros(periods.size)
@@ -393,7 +454,10 @@ def _trace_table_rows(
         he = np.where(op, np.maximum(d["depth"], 1e-3), 1.0)
         ce = phase_speed(f, he, g=g)
         cge = group_velocity(f, he, g=g)
-        w = ce * cge / (phase_speed(f, h_ref, g=g) * group_velocity(f, h_ref, g=g))
+        # the invariant E·C·Cg is read in deep water, C0·Cg0 = g²/(2ω²), for every open ray: those
+        # past L0/2 (there C·Cg is still 1.6 % above it) and those continued beyond an edge
+        c0cg0 = 0.5 * (g / (2.0 * math.pi * f)) ** 2
+        w = np.full(st.size, c0cg0 / (phase_speed(f, h_ref, g=g) * group_velocity(f, h_ref, g=g)))
         # plane-front reference through the origin: the wave travels toward -(cos θ, sin θ)
         proj = d["x"] * np.cos(d["theta"]) + d["y"] * np.sin(d["theta"])
         tc = d["crest_time"] - proj / ce
@@ -407,8 +471,8 @@ def _trace_table_rows(
         blocked[p] = share[st == BLOCKED].sum()
         n_rays[p] = st.size
         acc, unresolved[p] = _map_period(
-            st, _math_to_nautical(d["theta"]), _math_to_nautical(unit * d["u"] * (math.pi / 180.0)),
-            w, tc, te, gap, unit, nd, width, opts["fold_jump_deg"],
+            st, _math_to_nautical(d["offshore_theta"]), _math_to_nautical(unit * d["u"] * (math.pi / 180.0)),
+            w, tc, te, d["continued"].astype(float), gap, unit, nd, width, opts["fold_jump_deg"],
         )  # fmt: skip
         e = acc[:, 0]
         has = e > 1e-9 * unit  # below: round-off of the cumulative sums (an empty bin)
@@ -422,12 +486,15 @@ def _trace_table_rows(
             tt[p] = np.where(has, acc[:, 3] / e, np.nan)
             et[p] = np.where(has, acc[:, 4] / e, np.nan)
         of[p] = np.minimum(acc[:, 5] / width, 1.0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            cf[p] = np.where(has, np.clip(acc[:, 6] / e, 0.0, 1.0), 0.0)
     return {
         "coefficient": coef,
         "nearshore_direction_deg": ndir,
         "travel_time_s": tt,
         "energy_travel_time_s": et,
         "open_fraction": of,
+        "continued_fraction": cf,
         "lost_fraction_by_period": lost,
         "blocked_fraction": blocked,
         "unresolved_fraction": unresolved / 360.0,
@@ -438,7 +505,7 @@ def _trace_table_rows(
 _DEFAULTS: dict[str, Any] = dict(
     direction_bin_deg=2.0, launch_spacing_deg=0.25, smoothing_m=None, min_depth=0.5,
     edge_min_depth=20.0, open_edges=None, max_slope=1.0 / 3.0, wave_base_fraction=0.5, step_m=None, max_turn_rad=0.05,
-    max_steps=20000, fold_jump_deg=10.0, refine_levels=6, refine_jump_deg=None, g=G,
+    max_steps=20000, fold_jump_deg=10.0, refine_levels=6, refine_jump_deg=None, g=G, regional=(),
 )  # fmt: skip
 
 
@@ -474,7 +541,27 @@ def _options(grid: DepthGrid, **kw: Any) -> dict[str, Any]:
         if bad:
             raise InvalidInput(f"`open_edges` must name edges among {EDGES}, got {bad!r}")
         opts["open_edges"] = names
+    opts["regional"] = _regional(grid, kw.get("regional") or (), float(kw["edge_min_depth"]))
     return opts
+
+
+def _regional(grid: DepthGrid, grids: Sequence[DepthGrid], edge_min_depth: float) -> list[dict[str, Any]]:
+    """Regional grids around the local one, finest first, each smoothed by two of its cells (its
+    own resolution; the smoothing length is kept in its meta) with open edges from its data."""
+    out = []
+    xmin, xmax, ymin, ymax = grid.extent
+    for k, g in enumerate(grids):
+        if not isinstance(g, DepthGrid):
+            raise InvalidInput(f"`regional[{k}]` must be a DepthGrid, got {type(g).__name__}")
+        gx0, gx1, gy0, gy1 = g.extent
+        if gx1 <= xmin or gx0 >= xmax or gy1 <= ymin or gy0 >= ymax:
+            raise InvalidInput(f"`regional[{k}]` {g.extent} does not overlap the local grid {grid.extent}")
+        sm = float(g.meta.get("smoothing_m", 2.0 * max(g.dx, g.dy)))
+        sg = _prepared(g, sm)
+        out.append({"grid": sg, "smoothing_m": sm, "step_m": max(min(g.dx, g.dy), 0.5 * sm),
+                    "open_edges": sg.deep_edges(edge_min_depth).open_edges(), "spacing": max(g.dx, g.dy)})  # fmt: skip
+    out.sort(key=lambda r: r["spacing"])
+    return out
 
 
 def _prepared(grid: DepthGrid, smoothing_m: float) -> DepthGrid:
@@ -513,6 +600,7 @@ def build_table(
     refine_levels: int = 6,
     refine_jump_deg: float | None = None,
     g: float = G,
+    regional: Sequence[DepthGrid] = (),
 ) -> TransferTable:
     """Transfer table for the reference point (x_ref, y_ref) [m] (see the module docstring).
 
@@ -524,6 +612,8 @@ def build_table(
     (common practice: half the deep-water wavelength) they run straight and report their state
     at the wave base. Launch intervals are bisected `refine_levels` times where neighbours differ
     in fate or in offshore direction by more than `refine_jump_deg` (default: the bin width).
+    `regional` are coarser grids around `grid` in the same local frame: rays leaving `grid` go on
+    in them (see `_trace`); each is smoothed by two of its own cells.
     """
     periods = _periods(periods_s)
     opts = _options(
@@ -531,7 +621,7 @@ def build_table(
         smoothing_m=smoothing_m, min_depth=min_depth, edge_min_depth=edge_min_depth,
         open_edges=open_edges, max_slope=max_slope, wave_base_fraction=wave_base_fraction, step_m=step_m,
         max_turn_rad=max_turn_rad, max_steps=max_steps, fold_jump_deg=fold_jump_deg,
-        refine_levels=refine_levels, refine_jump_deg=refine_jump_deg, g=g,
+        refine_levels=refine_levels, refine_jump_deg=refine_jump_deg, g=g, regional=regional,
     )  # fmt: skip
     sg = _prepared(grid, opts["smoothing_m"])
     x_ref, y_ref = float(x_ref), float(y_ref)
@@ -564,6 +654,11 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         "open_edges": list(opts["open_edges"]),
         "max_steps": int(opts["max_steps"]),
         "g": float(opts["g"]),
+        "regional_grids": [
+            {"shape": list(r["grid"].shape), "spacing_m": [r["grid"].dx, r["grid"].dy], "smoothing_m": r["smoothing_m"],
+             "step_m": r["step_m"], "open_edges": list(r["open_edges"])}
+            for r in opts.get("regional") or ()
+        ],  # fmt: skip
         "grid_shape": list(sg.shape),
         "grid_spacing_m": [sg.dx, sg.dy],
         "blocked_fraction_by_period": cat["blocked_fraction"].tolist(),
@@ -588,6 +683,7 @@ def _assemble(periods, opts, sg, x_ref, y_ref, h_ref, parts) -> TransferTable:
         travel_time_s=cat["travel_time_s"],
         energy_travel_time_s=cat["energy_travel_time_s"],
         open_fraction=cat["open_fraction"],
+        continued_fraction=cat["continued_fraction"],
         lost_fraction_by_period=lost,
         reference_depth_m=h_ref,
         reference_x=x_ref,
@@ -659,6 +755,25 @@ def build_tables(
         cat = {key: np.concatenate([p[key] for p in parts])[order] for key in parts[0]}
         tables.append(_assemble(periods, opts, sg, x, y, h, [cat]))
     return tables
+
+
+def wave_base_period_s(
+    grids: Sequence[DepthGrid], *, edge_min_depth: float = 20.0, wave_base_fraction: float = 0.5, g: float = G
+) -> float | None:
+    """Longest period whose wave base the grids reach: h = wave_base_fraction·gT²/(2π) solved for T,
+    with h the median depth of the open-ocean cells (>= `edge_min_depth`) along the open edges of
+    the outermost grid (the coarsest; rays end on its edges). None when it has no open edge."""
+    if not grids:
+        raise InvalidInput("`grids` must hold at least one DepthGrid")
+    outer = max(grids, key=lambda gr: max(gr.dx, gr.dy))
+    masks = outer.deep_edges(edge_min_depth)
+    d = outer.depth
+    edge_depths = {"south": d[0, :], "north": d[-1, :], "west": d[:, 0], "east": d[:, -1]}
+    cells = [edge_depths[e][getattr(masks, e)] for e in masks.open_edges()]
+    if not cells:
+        return None
+    h = float(np.median(np.concatenate(cells)))
+    return math.sqrt(2.0 * math.pi * h / (g * wave_base_fraction))
 
 
 # --------------------------------------------------------------------------- applying a table
@@ -772,11 +887,15 @@ def swell_window(table: TransferTable, threshold: float = 0.05) -> list[list[tup
     return out
 
 
-def input_hash(grid: DepthGrid | bytes, **parameters: Any) -> str:
-    """sha256 hex digest of the grid bytes, the parameters (sorted, JSON) and ENGINE_VERSION."""
+def input_hash(grid: DepthGrid | bytes, *, regional: Sequence[DepthGrid | bytes] = (), **parameters: Any) -> str:
+    """sha256 hex digest of the grid bytes, every regional grid's bytes (in order), the parameters
+    (sorted, JSON) and ENGINE_VERSION."""
     h = hashlib.sha256()
     h.update(ENGINE_VERSION.encode())
-    h.update(grid.to_bytes() if isinstance(grid, DepthGrid) else bytes(grid))
+    for k, g in enumerate([grid, *regional]):
+        b = g.to_bytes() if isinstance(g, DepthGrid) else bytes(g)
+        h.update(f"grid {k} {len(b)}:".encode())
+        h.update(b)
 
     def norm(v: Any) -> Any:
         if isinstance(v, np.ndarray):

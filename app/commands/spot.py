@@ -21,9 +21,12 @@ def _add(args: argparse.Namespace) -> int:
             print_json(public)
         else:
             g = public.grid
+            regional = "".join(f", regional grid {r.nx}x{r.ny} at {r.dx_m:g} m" for r in public.regional_grids)
+            wb = public.wave_base_period_s
+            reach = f"grids reach the wave base up to {wb:g} s" if wb is not None else "no open-ocean edge"
             print(
                 f"imported {public.id} ({public.name}): grid {g.nx}x{g.ny} at {g.dx_m:g} m, "
-                f"depth {g.depth_min_m:g}..{g.depth_max_m:g} m, {len(public.break_points)} break point(s)"
+                f"depth {g.depth_min_m:g}..{g.depth_max_m:g} m{regional}, {len(public.break_points)} break point(s); {reach}"
             )
     return 0
 

@@ -77,8 +77,11 @@ def _window(args: argparse.Namespace) -> int:
             arcs = p["open_arcs_deg"][i]
             text = ", ".join(f"{a:g}-{b:g}" for a, b in arcs) if arcs else "closed"
             near = p["nearshore_direction_deg"][i][j]
-            rows.append([f"{period:.1f}", text, f"{kmax:.2f}", f"{p['directions_deg'][j]:g}", "-" if near is None else f"{near:.0f}"])
-        print_table(["period s", "open from-directions °", "K max", "at °", "arrives from °"], rows)
+            cont = p.get("continued_arcs_deg", [[]] * len(p["periods_s"]))[i]
+            ctext = ", ".join(f"{a:g}-{b:g}" for a, b in cont) if cont else "-"
+            rows.append([f"{period:.1f}", text, f"{kmax:.2f}", f"{p['directions_deg'][j]:g}", "-" if near is None else f"{near:.0f}",
+                         ctext])  # fmt: skip
+        print_table(["period s", "open from-directions °", "K max", "at °", "arrives from °", "assumed contours °"], rows)
     return 0
 
 

@@ -41,6 +41,9 @@ class Spot(Base):
     bathymetry: Mapped[Bathymetry | None] = relationship(
         back_populates="spot", cascade="all, delete-orphan", uselist=False
     )
+    regional_grids: Mapped[list[RegionalBathymetry]] = relationship(
+        back_populates="spot", cascade="all, delete-orphan", order_by="RegionalBathymetry.position"
+    )
 
 
 class BreakPoint(Base):
@@ -83,6 +86,31 @@ class Bathymetry(Base):
     sha256: Mapped[str] = mapped_column(sa.String(64))
 
     spot: Mapped[Spot] = relationship(back_populates="bathymetry")
+
+
+class RegionalBathymetry(Base):
+    """A coarser grid around the spot's local one (profile `[[regional_bathymetry]]`), resampled
+    to the same local frame; `position` is its order in the profile."""
+
+    __tablename__ = "regional_bathymetry"
+    __table_args__ = (sa.UniqueConstraint("spot_id", "position"),)
+
+    id: Mapped[int] = mapped_column(primary_key=True)
+    spot_id: Mapped[str] = mapped_column(sa.ForeignKey("spots.id", ondelete="CASCADE"), index=True)
+    position: Mapped[int]
+    depth: Mapped[np.ndarray] = mapped_column(NpyArray)  # depth[j, i], row 0 = south, positive down
+    nx: Mapped[int]
+    ny: Mapped[int]
+    x0: Mapped[float]
+    y0: Mapped[float]
+    dx: Mapped[float]
+    dy: Mapped[float]
+    datum: Mapped[str] = mapped_column(sa.String(32))
+    source_file: Mapped[str] = mapped_column(sa.String(500))
+    source_format: Mapped[str] = mapped_column(sa.String(32))
+    sha256: Mapped[str] = mapped_column(sa.String(64))
+
+    spot: Mapped[Spot] = relationship(back_populates="regional_grids")
 
 
 class TransferTableRow(Base):
@@ -314,6 +342,7 @@ __all__ = [
     "Job",
     "Observation",
     "OutlookCache",
+    "RegionalBathymetry",
     "Reject",
     "Source",
     "SourceHealth",

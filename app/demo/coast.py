@@ -22,6 +22,13 @@ flat 24 m floor, so swell crosses the bay in straight lines and only the land de
 west and south-west swell is shut out, north-west swell comes straight in. Files are written the way a user would have them: ESRI ASCII depth grids in local metres
 for three spots and a GEBCO-style NetCDF (``elevation``, negative below sea level, on a regular
 lat/lon grid) for the ridge.
+
+The open coast also has a **regional grid** (``skellmarrow-shelf.nc``, GEBCO-style, about 300 m
+cells): the outer shelf and the continental slope west of the ridge and the beach, down to some
+700 m, so long-period rays leaving their local grids (which end at 45-95 m) reach the wave base on
+data instead of assumed straight contours. Inside each of those local grids it holds the local
+seabed (coarsened), blended over the 600 m around it into the shelf, so both grids agree where
+they overlap. The point and the bay keep their local grids alone.
 """
 
 from __future__ import annotations
@@ -48,6 +55,7 @@ __all__ = [
     "LocalGrid",
     "spot_depth_function",
     "spot_grid",
+    "region_depth",
     "write_coast",
 ]
 
@@ -65,6 +73,16 @@ BEACH_SLOPE = 1.0 / 55.0  # the exposed beach: one plain slope out to ~95 m at t
 BREAK_DEPTH_M = 2.5  # break points sit on this contour
 PERIOD_MIN_S, PERIOD_MAX_S, PERIOD_COUNT = 5.0, 20.0, 12  # table periods of the demo profiles
 LAUNCH_SPACING_DEG = 0.25
+
+# The regional grid of the open coast (ridge and beach): x, y relative to the beach's position [m]
+REGION_FILE = "skellmarrow-shelf.nc"
+REGION_SPOTS = ("quenning-ridge", "ostravel-strand")
+REGION_X_M, REGION_Y_M = (-30000.0, 3000.0), (-10000.0, 28000.0)
+REGION_SPACING_M = 300.0
+REGION_SHORE_X_M = 850.0  # the open coast's shoreline (both spots' mainland begins near here)
+REGION_BLEND_M = 600.0  # local seabed blended into the shelf over this margin round each local grid
+REGION_SLOPE_BREAK_X_M = -5000.0  # the shelf (1:55 from the shore) gives way to a 1:40 slope here
+REGION_MAX_DEPTH_M = 1200.0
 
 
 @dataclass(frozen=True)
@@ -433,13 +451,64 @@ def _lonlat_axes(spot: DemoSpot):
 
 
 def _write_gebco_style(path: Path, spot: DemoSpot) -> None:
-    """GEBCO-style NetCDF4: elevation(lat, lon) [m], negative below sea level, 1-D lat/lon centres."""
-    import h5netcdf
-
+    """GEBCO-style NetCDF4 of the spot's own grid (see `_write_netcdf`)."""
     lat, lon = _lonlat_axes(spot)
     glon, glat = np.meshgrid(lon, lat)
     x, y = to_local(glat, glon, spot.latitude, spot.longitude)
-    elevation = (-spot_depth_function(spot)(x, y)).astype(np.float32)
+    _write_netcdf(path, lat, lon, -spot_depth_function(spot)(x, y), f"{spot.name} demo bathymetry (fictional, synthetic)")
+
+
+def _region_shelf(x):
+    """Depth [m] of the open coast away from the spots: a 1:55 shelf from the shore, then a 1:40
+    continental slope; land rises at LAND_SLOPE east of the shore."""
+    x = np.asarray(x, dtype=float)
+    shelf = BEACH_SLOPE * (REGION_SHORE_X_M - x)
+    slope = BEACH_SLOPE * (REGION_SHORE_X_M - REGION_SLOPE_BREAK_X_M) + (REGION_SLOPE_BREAK_X_M - x) / 40.0
+    sea = np.minimum(np.where(x >= REGION_SLOPE_BREAK_X_M, shelf, slope), REGION_MAX_DEPTH_M)
+    land = np.maximum(LAND_SLOPE * (REGION_SHORE_X_M - x), LAND_MIN_M)
+    return np.where(x <= REGION_SHORE_X_M, sea, land)
+
+
+def _inside_weight(u, lo, hi):
+    """1 inside [lo, hi], falling smoothly to 0 at REGION_BLEND_M outside."""
+    out = np.maximum(lo - u, 0.0) + np.maximum(u - hi, 0.0)
+    return 1.0 - _smoothstep(out, 0.0, REGION_BLEND_M)
+
+
+def region_depth(lat, lon):
+    """Depth [m] of the regional grid at (lat, lon): each open-coast spot's own seabed inside its
+    local grid, blended into the regional shelf around it (see the module docstring)."""
+    lat, lon = np.broadcast_arrays(np.asarray(lat, dtype=float), np.asarray(lon, dtype=float))
+    spots = [s for s in SPOTS if s.id in REGION_SPOTS]
+    ref = spots[-1]  # the beach: the frame of REGION_X_M / REGION_Y_M and of the shelf
+    x, _ = to_local(lat, lon, ref.latitude, ref.longitude)
+    total_w = np.zeros(lat.shape)
+    acc = np.zeros(lat.shape)
+    for spot in spots:
+        xs, ys = to_local(lat, lon, spot.latitude, spot.longitude)
+        w = _inside_weight(xs, *spot.x_range) * _inside_weight(ys, *spot.y_range)
+        near = w > 0
+        if near.any():
+            acc[near] += w[near] * spot_depth_function(spot)(xs[near], ys[near])
+        total_w += w
+    return acc + (1.0 - np.minimum(total_w, 1.0)) * _region_shelf(x)
+
+
+def _region_axes():
+    ref = [s for s in SPOTS if s.id in REGION_SPOTS][-1]
+    (x0, x1), (y0, y1) = REGION_X_M, REGION_Y_M
+    lon_c, lat_c = to_lonlat(np.array([x0, x1, 0.0, 0.0]), np.array([0.0, 0.0, y0, y1]), ref.latitude, ref.longitude)
+    dlat = round(REGION_SPACING_M / 111_000.0, 6)
+    dlon = round(dlat / math.cos(math.radians(ref.latitude)), 6)
+    lat = round(float(lat_c[2]), 5) + dlat * np.arange(int(math.floor((lat_c[3] - lat_c[2]) / dlat)) + 1)
+    lon = round(float(lon_c[0]), 5) + dlon * np.arange(int(math.floor((lon_c[1] - lon_c[0]) / dlon)) + 1)
+    return lat, lon
+
+
+def _write_netcdf(path: Path, lat, lon, elevation, title: str) -> None:
+    """GEBCO-style NetCDF4: elevation(lat, lon) [m], negative below sea level, 1-D lat/lon centres."""
+    import h5netcdf
+
     with h5netcdf.File(path, "w", track_order=True) as f:
         f.dimensions = {"lat": lat.size, "lon": lon.size}
         v = f.create_variable("lat", ("lat",), "f8")
@@ -449,7 +518,7 @@ def _write_gebco_style(path: Path, spot: DemoSpot) -> None:
         v[:] = lon
         v.attrs.update({"standard_name": "longitude", "units": "degrees_east", "long_name": "longitude"})
         v = f.create_variable("elevation", ("lat", "lon"), "f4")
-        v[:] = elevation
+        v[:] = elevation.astype(np.float32)
         v.attrs.update({
             "standard_name": "height_above_mean_sea_level",
             "long_name": "Elevation relative to sea level",
@@ -458,9 +527,24 @@ def _write_gebco_style(path: Path, spot: DemoSpot) -> None:
         })
         f.attrs.update({
             "Conventions": "CF-1.11",
-            "title": f"{spot.name} demo bathymetry (fictional, synthetic)",
+            "title": title,
             "source": "shoalcast app.demo.coast: analytic shapes + smooth noise; not a real place",
         })
+
+
+def _write_region(path: Path) -> None:
+    lat, lon = _region_axes()
+    glon, glat = np.meshgrid(lon, lat)
+    _write_netcdf(path, lat, lon, -region_depth(glat, glon), f"{COAST_NAME} regional bathymetry (fictional, synthetic)")
+
+
+def _write_netcdf_atomic(out_dir: Path, name: str, write: Callable[[Path], None]) -> Path:
+    target = out_dir / name
+    with tempfile.TemporaryDirectory(dir=out_dir) as tmp:
+        tmp_path = Path(tmp) / name
+        write(tmp_path)
+        _replace_if_changed(target, tmp_path.read_bytes())
+    return target
 
 
 def _replace_if_changed(path: Path, data: bytes) -> None:
@@ -502,6 +586,11 @@ def _profile_toml(spot: DemoSpot, points, sources) -> str:
         f"origin = {{ latitude = {spot.latitude:.6f}, longitude = {spot.longitude:.6f} }}",
         'datum = "MSL"',
     ]
+    if spot.id in REGION_SPOTS:
+        lines += ["", "# the outer shelf and slope around this grid, so long-period rays reach the wave base on data",
+                  "[[regional_bathymetry]]", f"file = {_toml_str(REGION_FILE)}", 'format = "netcdf"',
+                  'values = "elevation"', 'crs = "lonlat"', 'variable = "elevation"',
+                  f"spacing_m = {REGION_SPACING_M:.1f}", 'datum = "MSL"']  # fmt: skip
     for name, x, y in points:
         lines += ["", "[[break_points]]", f"name = {_toml_str(name)}", f"x = {x:.1f}", f"y = {y:.1f}"]
     # table options sized for a quick demo build: 12 periods 5-20 s cover the demo's swells and
@@ -532,11 +621,9 @@ def write_coast(directory: str | os.PathLike, *, sources: tuple[str, ...] = DEMO
         if spot.file_format == "esri-ascii":
             _replace_if_changed(grid_path, _esri_ascii(spot_grid(spot)).encode())
         else:
-            with tempfile.TemporaryDirectory(dir=out_dir) as tmp:
-                tmp_path = Path(tmp) / spot.file_name
-                _write_gebco_style(tmp_path, spot)
-                _replace_if_changed(grid_path, tmp_path.read_bytes())
+            _write_netcdf_atomic(out_dir, spot.file_name, lambda p, s=spot: _write_gebco_style(p, s))
         profile = out_dir / f"{spot.id}.toml"
         _replace_if_changed(profile, _profile_toml(spot, points, sources).encode())
         profiles.append(profile)
+    _write_netcdf_atomic(out_dir, REGION_FILE, _write_region)
     return profiles

@@ -85,6 +85,9 @@ class SpotProfile(_Strict):
     timezone: str = "UTC"
     sources: list[str] = Field(default_factory=list)
     bathymetry: BathymetrySpec
+    # coarser grids around the local one (typically lon/lat, hundreds of metres): rays that leave
+    # the local grid go on in them to the wave base or an open edge (docs/methods.md §3)
+    regional_bathymetry: list[BathymetrySpec] = Field(default_factory=list, max_length=4)
     break_points: list[BreakPointSpec] = Field(min_length=1, max_length=20)
     model: ModelSpec = Field(default_factory=ModelSpec)
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from datetime import datetime
 
-from pydantic import BaseModel, ConfigDict
+from pydantic import BaseModel, ConfigDict, Field
 
 
 class GridSummary(BaseModel):
@@ -44,6 +44,13 @@ class SpotPublic(BaseModel):
     timezone: str
     sources: list[str]
     grid: GridSummary
+    regional_grids: list[GridSummary] = Field(
+        default_factory=list, description="Coarser grids around the local one (profile `regional_bathymetry`), in order.")
+    wave_base_period_s: float | None = Field(
+        default=None,
+        description="Longest period whose wave base (L0/2) the grids reach: the median depth along the open-ocean "
+                    "edges of the outermost grid is L0/2 of this period. Rays of longer periods leave the grids short "
+                    "of it and are continued over assumed straight contours (see `window`). Null: no open edge.")
     break_points: list[BreakPointPublic]
     updated_at: datetime
 

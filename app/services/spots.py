@@ -16,19 +16,21 @@ import numpy as np
 from sqlalchemy import select
 from sqlalchemy.orm import Session, selectinload
 
-from app.db.tables import Bathymetry, BreakPoint, Spot, TransferTableRow
+from app.db.tables import Bathymetry, BreakPoint, RegionalBathymetry, Spot, TransferTableRow
 from app.errors import NotFound, ProfileError
-from app.schemas.profile import SpotProfile
+from app.schemas.profile import BathymetrySpec, SpotProfile
 from app.schemas.spots import BreakPointPublic, GridSummary, SpotPublic
 from app.schemas.toml import parse_toml_model
 from models.bathymetry import DepthGrid
 from models.geodesy import to_local, to_lonlat
+from models.transfer import wave_base_period_s
 
 __all__ = [
     "LoadedSpot",
     "delete_spot",
     "depth_grid_of",
     "get_spot",
+    "regional_grids_of",
     "import_spot",
     "list_spots",
     "load_profile",
@@ -56,27 +58,33 @@ class LoadedSpot:
     grid: DepthGrid
     points: list[LoadedPoint]
     bathymetry_file: str
+    regional: tuple[DepthGrid, ...] = ()  # one per `regional_bathymetry` entry, in profile order
 
 
 def parse_profile_text(text: str, *, where: str) -> SpotProfile:
     return parse_toml_model(text, SpotProfile, where=where, error=ProfileError)
 
 
-def _inside(base: Path, relative: str, *, where: str) -> Path:
+def _inside(base: Path, relative: str, *, where: str, field: str = "bathymetry.file") -> Path:
     if Path(relative).is_absolute():
-        raise ProfileError(f"{where}: field `bathymetry.file`: must be a path relative to the profile, got {relative!r}", field="bathymetry.file")
+        raise ProfileError(f"{where}: field `{field}`: must be a path relative to the profile, got {relative!r}", field=field)
     target = (base / relative).resolve()
     if not target.is_relative_to(base.resolve()):
-        raise ProfileError(f"{where}: field `bathymetry.file`: {relative!r} leaves the profile's folder", field="bathymetry.file")
+        raise ProfileError(f"{where}: field `{field}`: {relative!r} leaves the profile's folder", field=field)
     if not target.is_file():
-        raise ProfileError(f"{where}: field `bathymetry.file`: no such file {relative!r}", field="bathymetry.file")
+        raise ProfileError(f"{where}: field `{field}`: no such file {relative!r}", field=field)
     return target
 
 
-def _read_grid(profile: SpotProfile, path: Path) -> DepthGrid:
+def _read_grid(
+    profile: SpotProfile, path: Path, spec: BathymetrySpec | None = None, field: str = "bathymetry.file", *, complete: bool = False
+) -> DepthGrid:
+    """The grid a spec names, on the local frame of the profile's origin. `complete`: refuse a file
+    with no-data cells (holes), naming the first; cells the projection leaves empty at the rim are
+    filled from their nearest neighbour."""
     from app.formats import grids
 
-    spec = profile.bathymetry
+    spec = spec or profile.bathymetry
     origin = profile.origin
     try:
         if spec.format == "esri-ascii":
@@ -89,13 +97,37 @@ def _read_grid(profile: SpotProfile, path: Path) -> DepthGrid:
             data = grids.parse_xyz(
                 text, name=path.name, spacing_m=spec.spacing_m, crs=spec.crs, origin=(origin.latitude, origin.longitude)
             )
-        return grids.to_depth_grid(
+        if complete:
+            _refuse_holes(data, spec, field)
+        grid = grids.to_depth_grid(
             data, values=spec.values, origin=(origin.latitude, origin.longitude), spacing_m=spec.spacing_m
         )
+        return _fill_rim(grid) if complete else grid
     except ValueError as exc:  # GridError and friends name the file and line
-        raise ProfileError(f"field `bathymetry.file`: {exc}", field="bathymetry.file") from exc
+        raise ProfileError(f"field `{field}`: {exc}", field=field) from exc
     except OSError as exc:
-        raise ProfileError(f"bathymetry {path.name}: cannot read: {exc}", field="bathymetry.file") from exc
+        raise ProfileError(f"bathymetry {path.name}: cannot read: {exc}", field=field) from exc
+
+
+def _refuse_holes(data: Any, spec: BathymetrySpec, field: str) -> None:
+    holes = np.isnan(data.values)
+    if holes.any():
+        j, i = (int(v) for v in np.argwhere(holes)[0])
+        unit = "°" if data.crs == "lonlat" else " m"
+        raise ProfileError(
+            f"field `{field}`: {spec.file} has {int(holes.sum())} no-data cell(s) (holes), the first at row {j}, "
+            f"column {i} (x {data.x[i]:.5g}{unit}, y {data.y[j]:.5g}{unit}); a regional grid must be complete "
+            f"(land as elevation above the datum, not as no-data)", field=field)
+
+
+def _fill_rim(grid: DepthGrid) -> DepthGrid:
+    from scipy import ndimage
+
+    empty = np.isnan(grid.depth)
+    if not empty.any():
+        return grid
+    idx = ndimage.distance_transform_edt(empty, return_distances=False, return_indices=True)
+    return DepthGrid(grid.depth[tuple(idx)], grid.x0, grid.y0, grid.dx, grid.dy, grid.meta)
 
 
 def load_profile(path: Path | str) -> LoadedSpot:
@@ -112,7 +144,61 @@ def load_profile(path: Path | str) -> LoadedSpot:
     grid_path = _inside(path.parent, profile.bathymetry.file, where=where)
     grid = _read_grid(profile, grid_path)
     points = _locate_points(profile, grid, where=where)
-    return LoadedSpot(profile=profile, grid=grid, points=points, bathymetry_file=profile.bathymetry.file)
+    regional = []
+    for n, spec in enumerate(profile.regional_bathymetry):
+        field = f"regional_bathymetry.{n}"
+        path_n = _inside(path.parent, spec.file, where=where, field=f"{field}.file")
+        if spec.origin is not None and spec.origin != profile.origin:
+            raise ProfileError(f"{where}: field `{field}.origin`: a regional grid is placed on the local grid's "
+                               f"origin; leave it out or give the same", field=f"{field}.origin")  # fmt: skip
+        g = _read_grid(profile, path_n, spec, f"{field}.file", complete=True)
+        _check_regional(profile, grid, g, spec, field=field, where=where)
+        regional.append(g)
+    return LoadedSpot(profile=profile, grid=grid, points=points, bathymetry_file=profile.bathymetry.file,
+                      regional=tuple(regional))  # fmt: skip
+
+
+# A regional grid agrees with the local one when, over the local water cells deeper than this that
+# it covers, the median depth difference is within max(_AGREE_M, _AGREE_FRACTION·median depth):
+# a coarse grid smooths the seabed but does not move it (common practice for a consistency check).
+_AGREE_DEPTH_M, _AGREE_M, _AGREE_FRACTION = 5.0, 3.0, 0.25
+
+
+def _check_regional(profile: SpotProfile, local: DepthGrid, g: DepthGrid, spec: BathymetrySpec, *, field: str, where: str) -> None:
+    """Refuse a regional grid that does not overlap the local one, has holes, or disagrees with it
+    (another datum, or depth/elevation swapped)."""
+    name = spec.file
+    if spec.datum != profile.bathymetry.datum:
+        raise ProfileError(
+            f"{where}: field `{field}.datum`: {name} is on datum {spec.datum!r} but the local grid on "
+            f"{profile.bathymetry.datum!r}; convert one of them so both use the same datum", field=f"{field}.datum")
+    lx0, lx1, ly0, ly1 = local.extent
+    gx0, gx1, gy0, gy1 = g.extent
+    if gx1 <= lx0 or gx0 >= lx1 or gy1 <= ly0 or gy0 >= ly1:
+        raise ProfileError(
+            f"{where}: field `{field}.file`: {name} (x {gx0:.0f}..{gx1:.0f} m, y {gy0:.0f}..{gy1:.0f} m) does not "
+            f"overlap the local grid (x {lx0:.0f}..{lx1:.0f} m, y {ly0:.0f}..{ly1:.0f} m)", field=f"{field}.file")
+    # compare depths where both have water deep enough that the coarse coastline does not matter
+    X, Y = np.meshgrid(local.x, local.y)
+    use = (local.depth > _AGREE_DEPTH_M) & g.contains(X, Y)
+    if use.sum() < 4:
+        return
+    from scipy.interpolate import RegularGridInterpolator
+
+    # the file's own values (land negative, not clipped), bilinear at the local cells
+    theirs = RegularGridInterpolator((g.y, g.x), g.depth)(np.column_stack([Y[use], X[use]]))
+    ours = local.depth[use]
+    diff = float(np.median(theirs - ours))
+    limit = max(_AGREE_M, _AGREE_FRACTION * float(np.median(ours)))
+    if abs(diff) > limit and abs(float(np.median(-theirs - ours))) < abs(diff):
+        raise ProfileError(
+            f"{where}: field `{field}.values`: {name} matches the local grid only with its sign reversed (median "
+            f"{np.median(theirs):.1f} m where the local grid has {np.median(ours):.1f} m of water): is it elevation "
+            f"rather than depth (or the reverse)?", field=f"{field}.values")
+    if abs(diff) > limit:
+        raise ProfileError(
+            f"{where}: field `{field}.datum`: {name} is {diff:+.1f} m deeper than the local grid where they overlap "
+            f"(median; at most {limit:.1f} m expected): an inconsistent datum or vertical unit", field=f"{field}.datum")
 
 
 def _locate_points(profile: SpotProfile, grid: DepthGrid, *, where: str) -> list[LoadedPoint]:
@@ -165,6 +251,11 @@ def import_spot(session: Session, path: Path | str) -> Spot:
     return store_spot(session, loaded)
 
 
+def _grid_row(cls: type, grid: DepthGrid, **kw: Any) -> Any:
+    return cls(depth=np.asarray(grid.depth, dtype=np.float64), nx=int(grid.depth.shape[1]), ny=int(grid.depth.shape[0]),
+               x0=float(grid.x0), y0=float(grid.y0), dx=float(grid.dx), dy=float(grid.dy), sha256=grid_sha256(grid), **kw)  # fmt: skip
+
+
 def store_spot(session: Session, loaded: LoadedSpot) -> Spot:
     profile, grid = loaded.profile, loaded.grid
     dump = profile.model_dump(mode="json")
@@ -211,6 +302,10 @@ def store_spot(session: Session, loaded: LoadedSpot) -> Spot:
         source_format=profile.bathymetry.format,
         sha256=grid_sha256(grid),
     )
+    spot.regional_grids = [
+        _grid_row(RegionalBathymetry, g, position=n, datum=spec.datum, source_file=spec.file, source_format=spec.format)
+        for n, (spec, g) in enumerate(zip(profile.regional_bathymetry, loaded.regional, strict=True))
+    ]
     spot.break_points = [
         BreakPoint(
             position=i,
@@ -232,8 +327,9 @@ def store_spot(session: Session, loaded: LoadedSpot) -> Spot:
 
 def _spot_query():  # type: ignore[no-untyped-def]
     return select(Spot).options(
-        selectinload(Spot.bathymetry), selectinload(Spot.break_points).selectinload(BreakPoint.table)
-    )
+        selectinload(Spot.bathymetry), selectinload(Spot.regional_grids),
+        selectinload(Spot.break_points).selectinload(BreakPoint.table),
+    )  # fmt: skip
 
 
 def list_spots(session: Session) -> list[Spot]:
@@ -258,12 +354,15 @@ def depth_grid_of(spot: Spot) -> DepthGrid:
     return DepthGrid(depth=b.depth, x0=b.x0, y0=b.y0, dx=b.dx, dy=b.dy)
 
 
-def spot_public(spot: Spot) -> SpotPublic:
-    b = spot.bathymetry
-    assert b is not None
+def regional_grids_of(spot: Spot) -> list[DepthGrid]:
+    """The spot's regional grids in profile order (empty when it has none)."""
+    return [DepthGrid(depth=r.depth, x0=r.x0, y0=r.y0, dx=r.dx, dy=r.dy) for r in spot.regional_grids]
+
+
+def _summary(b: Any) -> GridSummary:
     depth = b.depth
     water = depth[np.isfinite(depth) & (depth > 0)]
-    grid = GridSummary(
+    return GridSummary(
         nx=b.nx,
         ny=b.ny,
         dx_m=b.dx,
@@ -277,6 +376,14 @@ def spot_public(spot: Spot) -> SpotPublic:
         source_format=b.source_format,
         sha256=b.sha256,
     )
+
+
+def spot_public(spot: Spot) -> SpotPublic:
+    b = spot.bathymetry
+    assert b is not None
+    grid = _summary(b)
+    regional = [_summary(r) for r in spot.regional_grids]
+    reach = wave_base_period_s([depth_grid_of(spot), *regional_grids_of(spot)])
     points = [
         BreakPointPublic(
             name=p.name,
@@ -299,6 +406,8 @@ def spot_public(spot: Spot) -> SpotPublic:
         timezone=spot.timezone,
         sources=list(spot.sources),
         grid=grid,
+        regional_grids=regional,
+        wave_base_period_s=None if reach is None else round(reach, 1),
         break_points=points,
         updated_at=spot.updated_at,
     )

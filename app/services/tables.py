@@ -1,14 +1,15 @@
 """Transfer tables in the database: what is missing or stale, building it (locally in a process pool
 or on a Dask cluster), loading it back, and the swell-window view of it.
 
-A table's input hash covers the bathymetry (its sha256), every profile field that changes the
-result, the break point and the engine version; a build computes only the points whose stored hash
+A table's input hash covers the bathymetry (its sha256, and every regional grid's, in order), every
+profile field that changes the result, the break point and the engine version; a build computes only the points whose stored hash
 differs. Each new table replaces the old one in its own transaction after it is computed, so a build
 killed half-way leaves the old tables in use and the next build redoes only what is still stale.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import io
 import os
 import time
@@ -26,7 +27,7 @@ from app.db.session import session_scope
 from app.db.tables import BreakPoint, Spot, TransferTableRow, utcnow
 from app.errors import BadInput, NotFound
 from app.observability import TABLE_BUILDS
-from app.services.spots import depth_grid_of
+from app.services.spots import depth_grid_of, regional_grids_of
 from models import refdif, transfer
 from models.errors import InvalidInput
 
@@ -61,7 +62,8 @@ def point_options(spot: Spot, bp: BreakPoint) -> dict[str, Any]:
 
 def _hash(spot: Spot, options: dict[str, Any]) -> str:
     assert spot.bathymetry is not None
-    return transfer.input_hash(spot.bathymetry.sha256.encode(), **options)
+    regional = [r.sha256.encode() for r in spot.regional_grids]
+    return transfer.input_hash(spot.bathymetry.sha256.encode(), regional=regional, **options)
 
 
 @dataclass
@@ -75,7 +77,8 @@ class PointTask:
 
 def stale_points(session: Session, spot_ids: Sequence[str] | None = None, *, force: bool = False) -> list[PointTask]:
     """Break points whose table is missing, built from other inputs, or by another engine version."""
-    q = select(Spot).options(selectinload(Spot.bathymetry), selectinload(Spot.break_points).selectinload(BreakPoint.table))
+    q = select(Spot).options(selectinload(Spot.bathymetry), selectinload(Spot.regional_grids),
+                             selectinload(Spot.break_points).selectinload(BreakPoint.table))  # fmt: skip
     if spot_ids:
         q = q.where(Spot.id.in_(list(spot_ids)))
     spots = list(session.scalars(q.order_by(Spot.id)))
@@ -161,8 +164,10 @@ def build_tables(
         by_spot.setdefault(t.spot_id, []).append(t)
     for n_spot, (spot_id, point_tasks) in enumerate(by_spot.items(), start=1):
         with session_scope(url) as session:
-            spot = session.scalars(select(Spot).options(selectinload(Spot.bathymetry)).where(Spot.id == spot_id)).one()
+            spot = session.scalars(select(Spot).options(selectinload(Spot.bathymetry), selectinload(Spot.regional_grids))
+                                   .where(Spot.id == spot_id)).one()  # fmt: skip
             grid = depth_grid_of(spot)
+            regional = regional_grids_of(spot)
         label = f"{spot_id} ({n_spot}/{len(by_spot)})"
         refs, ok = [], []
         for t in point_tasks:
@@ -178,7 +183,7 @@ def build_tables(
         opts = {k: v for k, v in ok[0].options.items() if k not in ("reference_depth_m", "break_x", "break_y", "method")}
         t_spot = time.perf_counter()
         try:
-            if ok[0].options.get("method") == refdif.METHOD:
+            if ok[0].options.get("method") == refdif.METHOD:  # the local grid only (regional grids: rays)
                 tables = refdif.build_tables(
                     grid, refs, executor=executor,
                     progress=(lambda done, total, what, _l=label: progress(f"{_l} {what}", done, total)) if progress else None,
@@ -186,7 +191,7 @@ def build_tables(
                 )  # fmt: skip
             else:
                 tables = transfer.build_tables(
-                    grid, refs, executor=executor,
+                    grid, refs, executor=executor, regional=regional,
                     progress=(lambda done, total, _l=label: progress(_l, done, total)) if progress else None,
                     **opts,
                 )  # fmt: skip
@@ -248,6 +253,13 @@ def _nulls(a: np.ndarray, digits: int) -> list[Any]:
 WINDOW_THRESHOLD = 0.15
 
 
+def _continued_arcs(t: transfer.TransferTable, threshold: float) -> list[list[tuple[float, float]]]:
+    """Per period, the open arcs whose energy comes mostly (over half) from rays continued beyond a
+    grid edge over assumed straight contours (docs/methods.md §3)."""
+    marked = (t.coefficient > threshold) & (t.continued_fraction > 0.5)
+    return transfer.swell_window(dataclasses.replace(t, coefficient=marked.astype(float)), threshold=0.5)
+
+
 def window_body(session: Session, spot_id: str, *, threshold: float = WINDOW_THRESHOLD) -> dict[str, Any]:
     """The swell window of every break point (`shoalcast window --json`, GET /v1/spots/{id}/window)."""
     spot = session.scalars(
@@ -276,5 +288,6 @@ def window_body(session: Session, spot_id: str, *, threshold: float = WINDOW_THR
             "coefficient": _nulls(t.coefficient, 4),
             "nearshore_direction_deg": _nulls(np.where(t.coefficient > 0, t.nearshore_direction_deg, np.nan), 1),
             "open_arcs_deg": [[[round(a, 1), round(b, 1)] for a, b in row] for row in arcs],
+            "continued_arcs_deg": [[[round(a, 1), round(b, 1)] for a, b in row] for row in _continued_arcs(t, threshold)],
         })  # fmt: skip
     return {"spot_id": spot.id, "name": spot.name, "faces_deg": spot.faces_deg, "threshold": threshold, "points": points}

@@ -227,7 +227,9 @@ class TestReconstruction:
         peaks = d[(row > np.roll(row, 1)) & (row > np.roll(row, -1))]
         np.testing.assert_allclose(np.sort(np.abs(peaks - 270.0)), [23.5, 23.5], atol=0.5)
 
-    def test_missing_coefficients_fall_back_to_isotropic(self):
+    def test_missing_coefficients_are_interpolated_not_isotropic(self):
+        # a missing band takes its neighbours' coefficients (linear in frequency as a1..b2; held
+        # beyond the last complete band), so its energy comes from where theirs does, not from land
         _, n = self._coeffs()
         r1 = n.r1.copy()
         r1[2] = np.nan
@@ -235,12 +237,25 @@ class TestReconstruction:
         a2[0] = np.inf
         assert sp.missing_coefficients(r1, n.r2, n.alpha1_deg, a2).tolist() == [True, False, True, False]
         efth = sp.directional_spectrum_from_coefficients(
-            self.FREQ, self.DENS, DIRS, r1=r1, r2=n.r2, alpha1_deg=n.alpha1_deg, alpha2_deg=a2
+            self.FREQ, self.DENS, DIRS, r1=r1, r2=n.r2, alpha1_deg=n.alpha1_deg, alpha2_deg=a2, method="weighted"
         )
         assert np.all(np.isfinite(efth))
-        np.testing.assert_allclose(efth[2], self.DENS[2] / (2 * np.pi))
-        np.testing.assert_allclose(efth[0], self.DENS[0] / (2 * np.pi))
-        assert np.ptp(efth[1]) > 0  # the good rows keep their shape
+        c = sp.ndbc_to_fourier(n.r1, n.r2, n.alpha1_deg, n.alpha2_deg)
+        f = self.FREQ
+        w = (f[2] - f[1]) / (f[3] - f[1])
+        mid = sp.fourier_to_ndbc(*((1 - w) * v[1] + w * v[3] for v in c))
+        def weighted(r1_, r2_, a1_, a2_, k):  # the NDBC weighted series (docstring), normalised on DIRS
+            x = np.radians(DIRS)
+            dd = np.maximum(0.5 + (2 / 3) * r1_ * np.cos(x - np.radians(a1_)) + (1 / 6) * r2_ * np.cos(2 * (x - np.radians(a2_))), 0)
+            return self.DENS[k] * dd / (dd.sum() * np.radians(DIRS[1] - DIRS[0]))
+
+        np.testing.assert_allclose(efth[2], weighted(*mid, 2), rtol=1e-9, atol=1e-15)
+        np.testing.assert_allclose(efth[0], weighted(n.r1[1], n.r2[1], n.alpha1_deg[1], n.alpha2_deg[1], 0), rtol=1e-9, atol=1e-15)
+        assert np.ptp(efth[2]) > 0 and np.ptp(efth[0]) > 0  # not isotropic
+        # with no band at all there is nothing to interpolate from: isotropic
+        none = sp.directional_spectrum_from_coefficients(
+            f, self.DENS, DIRS, r1=np.full(4, np.nan), r2=n.r2, alpha1_deg=n.alpha1_deg, alpha2_deg=n.alpha2_deg)
+        np.testing.assert_allclose(none, self.DENS[:, None] / (2 * np.pi) * np.ones((1, DIRS.size)))
 
     def test_unidirectional_input_stays_finite(self):
         efth = sp.directional_spectrum_from_coefficients(

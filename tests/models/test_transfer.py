@@ -5,9 +5,11 @@ Analytic answers used:
   Ks = sqrt(Cg_0/Cg), Kr = sqrt(cos θ0/cos θ) (Snell; SPM 1984 §2-III, from memory; worked example
   in docs/check-values.md §2, computed). Rays end at the wave base (h = L0/2, common practice),
   so the offshore end of the check is that depth; deep-water Snell differs there by < 0.5 %.
-- deep water (reference deeper than L0/2): K = 1, direction unchanged (common practice).
-- constant depth: straight rays, K = 1 where open; an island of radius R at distance D blocks
-  offshore directions within asin(R/D) of its bearing (tangent lines, geometry).
+- deep water (reference deeper than L0/2): direction unchanged (straight rays), K² = C0·Cg0/(C·Cg)
+  at the reference depth (within 0.3 % of 1): the invariant E·C·Cg (Longuet-Higgins 1957) read in
+  deep water (common practice: beyond the wave base L0/2 the bottom does not bend the rays).
+- constant depth beyond the wave base: straight rays, K = that K_deep(h) where open; an island of radius R
+  at distance D blocks offshore directions within asin(R/D) of its bearing (tangent lines).
 - Longuet-Higgins (1957) invariant E·C·Cg along rays (from memory; docs/methods.md §4).
 """
 
@@ -98,24 +100,36 @@ def test_reference_worked_example_10s_30deg():
     assert t.nearshore_direction_deg[0, k] - 90.0 == pytest.approx(17.207, abs=0.5)
 
 
+def _ks(T, h):
+    # K of a reference point beyond the wave base in open water: sqrt(C0·Cg0 / (C·Cg)(h))
+    c0 = G * T / (2 * np.pi)
+    return math.sqrt(0.5 * c0 * c0 / (phase_speed(1.0 / T, h) * group_velocity(1.0 / T, h)))
+
+
 def test_deep_water_is_identity():
-    # reference at 200 m, periods whose wave base L0/2 < 200 m: K = 1, direction unchanged
+    # reference at 200 m, periods whose wave base L0/2 < 200 m: K = Ks(200 m), direction unchanged
     g = DepthGrid(np.full((41, 41), 200.0) + np.linspace(0, 50, 41)[None, :], 0, 0, 100.0, 100.0)
     t = build_table(g, 2000.0, 2000.0, periods_s=[5.0, 8.0, 12.0], smoothing_m=0.0)
-    np.testing.assert_allclose(t.coefficient, 1.0, rtol=1e-9)
-    np.testing.assert_allclose(t.nearshore_direction_deg, np.tile(t.directions_deg, (3, 1)), atol=1e-6)
+    ks = np.array([_ks(T, t.reference_depth_m) for T in (5.0, 8.0, 12.0)])
+    assert np.all(np.abs(ks - 1.0) < 2e-4) and ks[2] != 1.0
+    np.testing.assert_allclose(t.coefficient, ks[:, None] * np.ones((1, 180)), rtol=1e-9)
+    dd = (t.nearshore_direction_deg - t.directions_deg[None, :] + 180.0) % 360.0 - 180.0
+    np.testing.assert_allclose(dd, 0.0, atol=1e-6)
     np.testing.assert_allclose(t.open_fraction, 1.0, rtol=1e-9)
     assert swell_window(t) == [[(0.0, 360.0)]] * 3
 
 
+ISLAND_SEA_M = 60.0  # deeper than the 8 s wave base (L0/2 = 50 m): straight rays, K = Ks(60 m)
+
+
 def _islands(centres, R, dx=20.0):
-    # constant 10 m depth with circular islands (land -1 m) of radius R [m] at `centres`
+    # constant 60 m depth with circular islands (land -1 m) of radius R [m] at `centres`
     x = np.arange(-3000, 3000 + 1, dx)
     X, Y = np.meshgrid(x, x)
     land = np.zeros(X.shape, dtype=bool)
     for cx, cy in centres:
         land |= (X - cx) ** 2 + (Y - cy) ** 2 < R**2
-    return DepthGrid(np.where(land, -1.0, 10.0), x[0], x[0], dx, dx)
+    return DepthGrid(np.where(land, -1.0, ISLAND_SEA_M), x[0], x[0], dx, dx)
 
 
 def test_island_shadow_matches_tangent_lines():
@@ -123,7 +137,7 @@ def test_island_shadow_matches_tangent_lines():
     t = build_table(_islands([(0.0, D)], R), 0.0, 0.0, periods_s=[8.0], smoothing_m=0.0, edge_min_depth=5.0)
     half = math.degrees(math.asin(R / D))  # tangent-line half-angle of the shadow (11.54 deg)
     d = (t.directions_deg + 180.0) % 360.0 - 180.0  # signed bearing from north (island bearing 0)
-    k = t.coefficient[0]
+    k = t.coefficient[0] / _ks(8.0, ISLAND_SEA_M)  # relative to open water
     np.testing.assert_allclose(k[np.abs(d) > half + 3.0], 1.0, atol=1e-9)  # open: constant depth
     # the shadow's width by energy, sum (1 - K²)·Δθ, is the tangent-line width within a bin width
     # (the coastline of the interpolated grid sits up to a cell outside the circle)
@@ -133,7 +147,7 @@ def test_island_shadow_matches_tangent_lines():
     # a little energy, K² < 0.03 (ray theory; the old half-interval point masses are gone)
     assert np.all(k[np.abs(d) < half - 3.0] ** 2 < 0.03)
     # shadow edge = where K² crosses 1/2 (half the energy gets through): within a bin of the tangent
-    arcs = swell_window(t, threshold=math.sqrt(0.5))[0]
+    arcs = swell_window(t, threshold=math.sqrt(0.5) * _ks(8.0, ISLAND_SEA_M))[0]
     assert len(arcs) == 1
     a, b = arcs[0]
     assert a == pytest.approx(half, abs=2.0)
@@ -151,7 +165,7 @@ def test_narrow_gap_between_islands_stays_open(gap_m):
     t = build_table(g, 0.0, 0.0, periods_s=[8.0], smoothing_m=0.0, edge_min_depth=5.0)
     inner = math.degrees(math.atan2(c, D) - math.asin(R / math.hypot(c, D)))  # 2.85° / 1.14°
     d = (t.directions_deg + 180.0) % 360.0 - 180.0
-    k = t.coefficient[0]
+    k = t.coefficient[0] / _ks(8.0, ISLAND_SEA_M)
     near = np.abs(d) < 12.0
     width = float(np.sum(k[near] ** 2) * t.direction_bin_deg)  # energy width of the beam
     assert width == pytest.approx(2.0 * inner, abs=t.direction_bin_deg)
@@ -274,7 +288,7 @@ def _spectrum(nd=36, mean=90.0, s=10.0):
 
 
 def test_apply_identity_table_preserves_energy_and_direction():
-    g = DepthGrid(np.full((21, 21), 300.0), 0, 0, 100.0, 100.0)
+    g = DepthGrid(np.full((21, 21), 1000.0), 0, 0, 100.0, 100.0)  # beyond the 25 s wave base (488 m)
     t = build_table(g, 1000.0, 1000.0, periods_s=[4.0, 25.0], smoothing_m=0.0)
     f, dirs, efth, e1 = _spectrum(mean=70.0)
     out = apply(t, f, dirs, efth)

@@ -35,6 +35,10 @@ class WindowPoint(BaseModel):
     nearshore_direction_deg: list[list[float | None]] | None = Field(
         default=None, description="FROM at the reference depth; null where blocked")
     open_arcs_deg: list[list[list[float]]] | None = Field(default=None, description="per period: open [from, to] arcs, clockwise")
+    continued_arcs_deg: list[list[list[float]]] | None = Field(
+        default=None,
+        description="per period: the open arcs whose rays left the grids short of the wave base and were continued "
+                    "over assumed straight contours beyond the edge (K rests on that assumption there)")
 
 
 class SwellWindow(BaseModel):

@@ -205,3 +205,24 @@ def test_beach_deepens_monotonically_offshore_with_straight_contours(grids):
     sea = g.depth[:, g.x < 0.0]
     slope = -np.diff(sea, axis=1).mean() / g.spacing
     assert slope == pytest.approx(coast.BEACH_SLOPE, rel=0.02)
+
+
+def test_open_coast_has_a_regional_grid_reaching_the_wave_base(written):
+    # the regional grid (GEBCO-style NetCDF) is accepted beside each open-coast local grid (overlap,
+    # no holes, same datum, depths that agree), and reaches the wave base L0/2 = gT²/4π (linear
+    # theory) of the demo's longest period (20 s: 312 m) along its open edges
+    from app.services.spots import load_profile
+    from models.transfer import wave_base_period_s
+
+    directory, profiles = written
+    gd = read_netcdf_grid(directory / coast.REGION_FILE)
+    assert gd.crs == "lonlat" and gd.variable == "elevation" and not np.isnan(gd.values).any()
+    assert -gd.values.min() > 600.0  # down the continental slope
+    for path, spot in zip(profiles, coast.SPOTS, strict=True):
+        loaded = load_profile(path)
+        if spot.id in coast.REGION_SPOTS:
+            [region] = loaded.regional
+            assert region.dx == pytest.approx(coast.REGION_SPACING_M)
+            assert wave_base_period_s([loaded.grid, region]) > coast.PERIOD_MAX_S
+        else:
+            assert loaded.regional == ()
