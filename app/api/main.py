@@ -257,10 +257,10 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.state.settings = settings
     _install_handlers(app)
 
-    from app.api.routes import agencies, alerts, health, outlooks, sources, spots, windows
+    from app.api.routes import agencies, alerts, health, outlooks, sources, spots, verification, windows
 
     app.include_router(health.router)
-    for module in (spots, outlooks, windows, sources, agencies, alerts):
+    for module in (spots, outlooks, windows, sources, agencies, alerts, verification):
         app.include_router(module.router, prefix="/v1")
     app.include_router(spots.jobs_router, prefix="/v1")
 

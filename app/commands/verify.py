@@ -64,6 +64,8 @@ def print_report(body: dict[str, Any]) -> None:
         print(f"rejected: {where}: {r['field']}: {r['reason']}")
     if body["rejected"] > len(body["rejects"]):
         print(f"... {body['rejected'] - len(body['rejects'])} more rejected")
+    for note in body.get("notes") or []:
+        print(f"note: {note}")
     cal = body.get("calibration")
     if cal:
         print(f"\nstored calibration version {cal['version']}: ×{cal['factor']:.3f} by {cal['created_by']}")
@@ -95,7 +97,7 @@ def _run(args: argparse.Namespace) -> int:
         print_json(body)
     else:
         print_report(body)
-    return 0
+    return 1 if args.apply and not body.get("calibration") else 0
 
 
 def _calibration(args: argparse.Namespace) -> int:

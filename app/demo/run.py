@@ -141,6 +141,35 @@ def _window_lines(body: dict[str, Any]) -> list[str]:
     return lines
 
 
+def _verification_lines(url: str) -> list[str]:
+    """Verify the gauge's spot against the gauge (stored as the spot's latest run, not applied)."""
+    from app.db.session import session_scope
+    from app.demo.gauge import GAUGE_ID, GAUGE_SPOT_ID
+    from app.services.verification import run_verification
+
+    with session_scope(url) as session:
+        b = run_verification(session, GAUGE_SPOT_ID, station=GAUGE_ID, who="demo")
+    st = b.get("station") or {}
+
+    def f(v: float | None, fmt: str = "{:+.2f}") -> str:
+        return "-" if v is None else fmt.format(v)
+
+    lines = [
+        f"Verification of {GAUGE_SPOT_ID} against the nearshore gauge {GAUGE_ID} ({st.get('depth_m', 0):.1f} m deep): "
+        "Hm0 at the gauge, each hour recomputed from the inputs known then",
+        f"  n {b['n']}   bias (obs − fc) {f(b['bias_m'])} m   RMSE {f(b['rmse_m'], '{:.2f}')} m   "
+        f"SI {f(b['scatter_index'], '{:.2f}')}   r {f(b['correlation'], '{:.2f}')}   "
+        f"factor {f(b['calibration_factor'], '{:.3f}')} ± {f(b['calibration_factor_stderr'], '{:.3f}')}",
+    ]
+    for name, g in b["by_sector"].items():
+        lines.append(f"  from {name:<3} n {g['n']:>3}   bias {f(g['bias_m'])} m   RMSE {f(g['rmse_m'], '{:.2f}')} m   "
+                     f"factor {f(g['calibration_factor'], '{:.3f}')}")  # fmt: skip
+    used = ", ".join(f"{k} ×{v}" for k, v in b["inputs_used"].items()) or "none"
+    lines.append(f"  inputs used: {used}" + (f"; {b['unpaired']} hour(s) with nothing known yet" if b["unpaired"] else ""))
+    lines.append(f"  (not applied: `shoalcast verify {GAUGE_SPOT_ID} {GAUGE_ID} --apply` would store the factor)")
+    return lines
+
+
 def run_demo(
     directory: str | Path = "var/demo",
     *,
@@ -159,6 +188,13 @@ def run_demo(
     from app.db.session import session_scope
     from app.demo.coast import COAST_NAME, write_coast
     from app.demo.feed import write_feed, write_source_profiles
+    from app.demo.gauge import (
+        GAUGE_ID,
+        GAUGE_SPOT_ID,
+        simulate_polled_history,
+        write_gauge,
+        write_gauge_profile,
+    )
     from app.ingest.fetch import fetch_source
     from app.ingest.sources import add_source, load_source_toml
     from app.services.agencies import add_agency
@@ -191,7 +227,10 @@ def run_demo(
     server = _start_feed(base / "feed", feed_port)
     try:
         _say(out, f"  feed      {server.url} (synthetic buoy {feed.observations} spectra, model {feed.forecast_steps} steps)")
-        for path in write_source_profiles(base / "sources", base_url=server.url):
+        gauge_n = write_gauge(base / "feed", now=now)
+        profiles_paths = [*write_source_profiles(base / "sources", base_url=server.url),
+                          write_gauge_profile(base / "sources", base_url=server.url)]  # fmt: skip
+        for path in profiles_paths:
             with session_scope(url) as session:
                 add_source(session, load_source_toml(path))
         source_ids = [p.stem for p in sorted((base / "sources").glob("*.toml"))]
@@ -203,6 +242,8 @@ def run_demo(
                 else f"{r.stored} new, {r.replaced} corrected, {r.unchanged} unchanged, {r.rejected} rejected" if r else o.status
             )
             _say(out, f"  polled    {sid}: {detail}")
+        simulate_polled_history(url, [s for s in source_ids if s != GAUGE_ID])
+        _say(out, f"  gauge     {GAUGE_ID}: {gauge_n} nearshore spectra at {GAUGE_SPOT_ID} (verification only)")
 
         _say(out)
         _say(out, f"Outlooks from {now:%Y-%m-%d %H:%M} UTC, every {PRINT_EVERY_H} h for {OUTLOOK_HOURS} h "
@@ -223,6 +264,9 @@ def run_demo(
                 _say(out, "  swell window (offshore directions that reach the break):")
                 for line in _window_lines(window):
                     _say(out, line)
+        _say(out)
+        for line in _verification_lines(url):
+            _say(out, line)
         _say(out)
         for c in DEMO_CAUTIONS:
             _say(out, f"! {c}")

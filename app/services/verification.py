@@ -137,22 +137,41 @@ def known_candidates(
     return sorted(keep, key=lambda r: (r.source_id, r.issue_time is not None, r.time, r.id))
 
 
+Memo = dict[tuple[Any, ...], Any]
+
+
 def hindcast_input(
-    session: Session, spot: Spot, step_time: datetime, as_of: datetime, *, exclude: Sequence[str] = ()
+    session: Session, spot: Spot, t: datetime, *, exclude: Sequence[str] = (), memo: Memo | None = None,
 ) -> tuple[OffshoreBatch | None, list[str]]:
-    """The one-step offshore input the outlook would have used for `step_time`, known at `as_of`
-    (None when nothing was known), with the notes of leaving things out."""
+    """The one-step offshore input the outlook, computed at `t`, would have had for the step
+    nearest `t` (within half an hour; on the hour for forecasts, at its own stamp for a station at
+    the spot), from the inputs known at `t`. None when nothing was known. `memo` reuses the inputs
+    for another observation that knew exactly the same rows."""
     notes: list[str] = []
-    cands = known_candidates(session, spot, step_time, step_time, as_of, exclude=exclude)
-    found = inputs.batches(session, spot, cands, step_time, step_time, notes)
-    chosen = [b for b in inputs.select_inputs(found) if step_time in b.times]
-    if not chosen:
+    hour = _nearest_hour(t)
+    start, end = hour - timedelta(hours=1), hour + timedelta(hours=1)
+    cands = known_candidates(session, spot, start, end, t, exclude=exclude)
+    key = (start, tuple((c.id, c.sha) for c in cands))
+    if memo is not None and key in memo:
+        chosen = memo[key]
+    else:
+        chosen = inputs.select_inputs(inputs.batches(session, spot, cands, start, end, notes))
+        if memo is not None:
+            memo[key] = chosen
+    best: tuple[float, int, int, int] | None = None
+    for b, batch in enumerate(chosen):
+        for j, tt in enumerate(batch.times):
+            gap = abs((tt - t).total_seconds())
+            cand = (gap, inputs.PRIORITY[batch.kind], b, j)
+            if gap <= PAIR_TOLERANCE.total_seconds() and (best is None or cand < best):
+                best = cand
+    if best is None:
         return None, notes
-    b = chosen[0]
-    return b.subset([b.times.index(step_time)]), notes
+    return chosen[best[2]].subset([best[3]]), notes
 
 
 def _describe(pair: Pair, batch: OffshoreBatch) -> None:
+    pair.step_time = batch.times[0]
     pair.input, pair.source, pair.issued = batch.kind, batch.source, batch.issued
     pair.observed_at = batch.observed_at[0] if batch.observed_at else None
     pair.offshore_direction_deg = float(batch.peak_dir[0])
@@ -181,15 +200,14 @@ def csv_pairs(
     points: list[PointSetup] = inputs.spot_points(spot, [])
     index = {p.name: i for i, p in enumerate(points)}
     out = []
+    memo: Memo = {}
     for o in obs:
         pair = Pair(o.time, o.height_m, None, o.point, o.observer, o.line)
         if o.point is not None and o.point not in index:
             pair.note = f"break point {o.point!r} has no transfer table"
             out.append(pair)
             continue
-        step = _nearest_hour(o.time)
-        pair.step_time = step
-        batch, _ = hindcast_input(session, spot, step, o.time)
+        batch, _ = hindcast_input(session, spot, o.time, memo=memo)
         if batch is None:
             pair.note = "no input was known at this time"
             out.append(pair)
@@ -265,15 +283,14 @@ def verify_station_pairs(
         q = q.where(Observation.time <= end)
     rows = list(session.scalars(q.order_by(Observation.time).limit(MAX_OBSERVATIONS)))
     out = []
+    memo: Memo = {}
     for row in rows:
         rec = record_from_observation(row)
         h_obs = record_hm0(rec.frequency, rec.density, rec.bandwidth)
         pair = Pair(row.time, h_obs, None, None, source.id, None)
         if not math.isfinite(h_obs):
             continue
-        step = _nearest_hour(row.time)
-        pair.step_time = step
-        batch, _ = hindcast_input(session, spot, step, row.time, exclude=[source.id])
+        batch, _ = hindcast_input(session, spot, row.time, exclude=[source.id], memo=memo)
         if batch is None:
             pair.note = "no input was known at this time"
             out.append(pair)
@@ -334,6 +351,7 @@ def verify_csv(
     start: datetime | None = None,
     end: datetime | None = None,
     height_class: str = "typical",
+    limit: int = MAX_OBSERVATIONS,
 ) -> tuple[dict[str, Any], HeightParse]:
     """Parse observed breaker heights and score the hindcast against them (not stored)."""
     from app.services.spots import get_spot
@@ -341,8 +359,8 @@ def verify_csv(
     spot = get_spot(session, spot_id)
     parsed = parse_height_csv(data, name=name, points=[bp.name for bp in spot.break_points])
     obs = _window(parsed.observations, start, end)
-    if len(obs) > MAX_OBSERVATIONS:
-        raise BadInput(f"{len(obs)} observations: at most {MAX_OBSERVATIONS} per run (use --from/--to)",
+    if len(obs) > limit:
+        raise BadInput(f"{len(obs)} observations: at most {limit} per run (narrow it with from/to)",
                        field="observations")  # fmt: skip
     pairs = csv_pairs(session, spot, obs, height_class=height_class)
     compared = f"observed breaker height vs raw {height_class} breaker height (Hm0 at breaking)"
@@ -393,34 +411,50 @@ def run_verification(
     end: datetime | None = None,
     who: str,
     apply: bool = False,
+    limit: int = MAX_OBSERVATIONS,
 ) -> dict[str, Any]:
     """Verify (from a CSV or a nearshore station), store the run, and with `apply` store its factor.
 
     The body gains `verification_id` and, when applied, `calibration` (the stored version)."""
-    from app.services.calibration import apply_factor, calibration_body
-
     if (csv_data is None) == (station is None):
         raise BadInput("give either observed heights (CSV) or a nearshore station id", field="observations")
-    if start is not None and end is not None and end < start:
-        raise BadInput("`to` is before `from`", field="to")
     if station is not None:
         body = verify_station(session, spot_id, station, start=start, end=end)
     else:
         assert csv_data is not None
-        body, _ = verify_csv(session, spot_id, csv_data, name=name, start=start, end=end)
+        body, _ = verify_csv(session, spot_id, csv_data, name=name, start=start, end=end, limit=limit)
     body["window"] = {"from": None if start is None else start.strftime("%Y-%m-%dT%H:%M:%SZ"),
                       "to": None if end is None else end.strftime("%Y-%m-%dT%H:%M:%SZ")}  # fmt: skip
+    body["notes"] = []
+    if not body["pairs"]:  # nothing readable (or nothing in the window): reported, not stored
+        body["notes"].append("no observations to pair: nothing stored")
+        if apply:
+            body["notes"].append("no calibration factor applied")
+        return body
     row = store_verification(session, body, who=who)
     if apply:
-        if body["n"] < 2 or body["calibration_factor"] is None:
-            raise BadInput(f"{body['n']} pair(s): at least 2 are needed to apply a calibration factor",
-                           field="apply")  # fmt: skip
-        metrics = {k: body[k] for k in ("n", "bias_m", "rmse_m", "scatter_index", "correlation",
-                                        "calibration_factor", "calibration_factor_stderr")}  # fmt: skip
-        metrics["observations"] = body["observations"]
-        cal = apply_factor(session, spot_id, body["calibration_factor"], stderr=body["calibration_factor_stderr"],
-                           who=who, metrics=metrics, verification_id=row.id)  # fmt: skip
-        body["calibration"] = calibration_body(cal)
+        from app.services.calibration import MAX_FACTOR, MIN_FACTOR
+
+        c = body["calibration_factor"]
+        if body["n"] < 2 or c is None:
+            body["notes"].append(f"{body['n']} pair(s): at least 2 are needed to apply a calibration factor; "
+                                 "none applied")  # fmt: skip
+        elif not (MIN_FACTOR <= c <= MAX_FACTOR):
+            body["notes"].append(f"factor {c:.3f} is outside {MIN_FACTOR}..{MAX_FACTOR}: not applied (check the "
+                                 "observations and the spot's bathymetry before scaling its heights)")  # fmt: skip
+        else:
+            body["calibration"] = _apply(session, spot_id, body, row.id, who)
         row.body = dict(body)
         session.flush()
     return body
+
+
+def _apply(session: Session, spot_id: str, body: dict[str, Any], verification_id: int, who: str) -> dict[str, Any]:
+    from app.services.calibration import apply_factor, calibration_body
+
+    metrics = {k: body[k] for k in ("n", "bias_m", "rmse_m", "scatter_index", "correlation", "calibration_factor",
+                                    "calibration_factor_stderr")}  # fmt: skip
+    metrics["observations"] = body["observations"]
+    cal = apply_factor(session, spot_id, body["calibration_factor"], stderr=body["calibration_factor_stderr"],
+                       who=who, metrics=metrics, verification_id=verification_id)  # fmt: skip
+    return calibration_body(cal)

@@ -118,6 +118,12 @@ def _newest_input(session: Any, spot: Spot) -> datetime | None:
     return t
 
 
+def _latest_verification(session: Any, spot_id: str) -> Any:
+    from app.services.verification import latest_verification
+
+    return latest_verification(session, spot_id)
+
+
 @router.get("/spots/{spot_id}")
 def spot_page(spot_id: str, request: Request, session: SessionDep, settings: SettingsDep) -> Response:
     from app.api.routes.outlooks import outlook_version
@@ -131,7 +137,9 @@ def spot_page(spot_id: str, request: Request, session: SessionDep, settings: Set
         get_agency(session, prefs.agency)  # 404 page for an unknown agency
     now = _now()
     hour = now.replace(minute=0, second=0, microsecond=0)
-    etag = etag_for(PAGE_VERSION, "spot", outlook_version(session, spot, prefs.agency), prefs, hour)
+    verified = _latest_verification(session, spot.id)
+    etag = etag_for(PAGE_VERSION, "spot", outlook_version(session, spot, prefs.agency), prefs, hour,
+                    None if verified is None else verified.id)
 
     def build() -> Response:
         error = None
@@ -151,7 +159,7 @@ def spot_page(spot_id: str, request: Request, session: SessionDep, settings: Set
         html = render("spot.html", page_title=spot.name, spot=spot, faces=views.compass(spot.faces_deg), view=view,
                       prefs=prefs, error=error, windows=windows, cautions=view["cautions"] or _cautions(),
                       show_tz=view["show_local"], zone=view["zone"], show_hours=True,
-                      nav_agencies=_nav(session))
+                      nav_agencies=_nav(session), verification=views.verification_view(session, verified))
         return _html(html)
 
     return conditional(request, etag, build, cache=cache_control(settings))

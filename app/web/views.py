@@ -326,3 +326,25 @@ def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dic
             "policy_is_default": s.get("policy_is_default"),
         })
     return out
+
+
+def verification_view(session: Any, row: Any) -> dict[str, Any] | None:
+    """The spot page's verification section from the latest stored run (None: never verified)."""
+    if row is None:
+        return None
+    from app.services.calibration import active_calibration
+
+    b = row.body
+
+    def f(v: Any, digits: int = 2) -> str:
+        return "-" if v is None else f"{v:.{digits}f}"
+
+    cal = active_calibration(session, row.spot_id)
+    sectors = [{"name": k, "n": v["n"], "bias": f(v["bias_m"]), "rmse": f(v["rmse_m"]),
+                "factor": f(v["calibration_factor"], 3)} for k, v in (b.get("by_sector") or {}).items()]  # fmt: skip
+    return {"observations": b.get("observations"), "compared": b.get("compared"), "n": b.get("n", 0),
+            "bias": f(b.get("bias_m")), "rmse": f(b.get("rmse_m")), "si": f(b.get("scatter_index")),
+            "r": f(b.get("correlation")), "factor": f(b.get("calibration_factor"), 3),
+            "factor_se": f(b.get("calibration_factor_stderr"), 3), "when": when(row.created_at, fmt="%Y-%m-%d %H:%M"),
+            "by": row.created_by, "sectors": sectors,
+            "calibration": None if cal is None else f"{cal.factor:.3f} (version {cal.version})"}  # fmt: skip

@@ -136,3 +136,26 @@ def test_point_peels_one_way_with_a_large_angle(demo):
     main = [s for s in west if s.offshore.hm0_m >= 0.75 * top]
     assert len(main) >= 12
     assert all(s.peel.angle_deg is not None and s.peel.angle_deg >= 30.0 for s in main)
+
+
+def test_walkthrough_verifies_the_beach_against_its_invented_gauge(demo):
+    # The gauge records the offshore truth shoaled by linear theory times SITE_FACTOR (0.9) in height
+    # (app.demo.gauge): the fitted factor should come back near it; refraction and breaking-free
+    # Hm0 at the gauge's position are the model's, so allow a few per cent either way.
+    import re
+
+    from app.demo.gauge import SITE_FACTOR
+
+    out = demo["first"]
+    assert "Verification of ostravel-strand against the nearshore gauge demo-gauge-strand" in out
+    m = re.search(r"  n (\d+) .* factor (\d\.\d+) ± (\d\.\d+)", out)
+    assert m, out[-2000:]
+    n, c, se = int(m.group(1)), float(m.group(2)), float(m.group(3))
+    block = out[out.index("Verification of"):][:1500]
+    # hours whose arrival from the offshore buoy was not whole yet at the time stay unpaired
+    assert n >= 5 and se < 0.05, block
+    # the model's own shoaling/refraction at the gauge differs from the gauge's linear, normal-incidence
+    # invention by some per cent (and changes with the table engine): a factor between the site factor
+    # and one, with a margin
+    assert SITE_FACTOR - 0.08 < c < 1.08, block
+    assert "inputs used: demo-offshore-1:arrival-forecast" in out
