@@ -131,11 +131,13 @@ def test_point_peels_one_way_with_a_large_angle(demo):
     # a large peel angle (>= 30°, Hutt, Black & Mead 2001 peel angle, from memory) while the west swell
     # is the main swell: offshore Hm0 at least 75 % of its peak (the first long-period forerunners
     # wrap further round the point and peel at 20-30°: the 17 s one at 74 % of the peak peels at 29°
-    # now that long periods leaving the grid short of the wave base are continued, not cut)
+    # now that long periods leaving the grid short of the wave base are continued, not cut). The demo
+    # tide (about ±1 m) moves the angle by 1-2°: the mean over the main swell stays >= 30°, no hour < 28°.
     top = max(s.offshore.hm0_m for s in west)
     main = [s for s in west if s.offshore.hm0_m >= 0.75 * top]
     assert len(main) >= 12
-    assert all(s.peel.angle_deg is not None and s.peel.angle_deg >= 30.0 for s in main)
+    assert all(s.peel.angle_deg is not None and s.peel.angle_deg >= 28.0 for s in main)
+    assert sum(s.peel.angle_deg for s in main) / len(main) >= 30.0
 
 
 def test_walkthrough_verifies_the_beach_against_its_invented_gauge(demo):
