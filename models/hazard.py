@@ -53,6 +53,7 @@ __all__ = [
     "HazardPolicy",
     "HazardRule",
     "HazardSummary",
+    "RIP_CAUTION",
     "TIDE_TRENDS",
     "WIND_RELATIVE",
     "hazard_level",
@@ -65,6 +66,12 @@ __all__ = [
 CAUTION = (
     "Hazard levels are guidance only; conditions change. The agency's own procedures, lifeguards, "
     "official warnings and local rules decide."
+)
+
+# shown wherever the rip-current likelihood is (CLI, API, pages, CAP): its coefficients are ours
+RIP_CAUTION = (
+    "Rip-current likelihood: the logistic form of Dusek & Seim (2013) with provisional coefficients "
+    "that are not the paper's; read it as a relative guide, not a calibrated probability."
 )
 
 N_LEVELS = 4  # levels 0..3
