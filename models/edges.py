@@ -8,11 +8,14 @@ deep-water direction (on the demo's headland it opened a window over land with K
 
 * **Contour direction**: a least-squares plane h = a + b·x + c·y over the water cells of a strip
   along the edge (`EDGE_ALONG_M` long, centred on the exit, `EDGE_INWARD_M` deep into the grid).
-  Its gradient is the seaward normal of the contours beyond, unless the plane explains less than
-  `MIN_EXPLAINED` of the depth variance in the strip (a flat, noisy bottom: no direction worth
-  extrapolating), its slope is below `FLAT_SLOPE`, or it points back into the grid (the bottom
-  would shoal across an open-ocean edge); then the contours are taken parallel to the edge (its
-  outward normal), as the plain straight-coast assumption has it.
+  The edge is cut into blocks of about that length, one plane each, so within a block the
+  continuation is exactly Snell over one set of straight contours (a normal that followed the
+  exit point would turn with the rays and fold beams into spurious caustics). The plane's
+  gradient is the seaward normal of the contours beyond, unless the plane explains less than
+  `MIN_EXPLAINED` of the depth variance in the strip (a flat, noisy bottom), its slope is below
+  `FLAT_SLOPE`, or it points more than 120° away from the edge's outward normal (the bottom would
+  shoal across an open-ocean edge). Such a strip shows no contours worth extrapolating, and a flat
+  bottom does not refract: the ray goes on straight, its deep-water direction its exit direction.
 * **Land beyond the edge**: a coast that reaches an edge is taken to go on straight beyond it,
   along the direction of its own nearshore contours where it meets the edge. A continued ray whose
   deep-water direction, drawn from its exit point, crosses such a continued coastline would have
@@ -42,7 +45,7 @@ EDGE_ALONG_M = 5000.0  # along-edge length of the plane fit [m] (several km: ave
 EDGE_INWARD_M = 2000.0  # how far into the grid the strip reaches [m]
 COAST_FIT_M = 1000.0  # half-size of the patch whose contours give a coast's direction at the edge [m]
 MIN_EXPLAINED = 0.5  # the plane must explain at least this share of the strip's depth variance
-FLAT_SLOPE = 1e-4  # below this fitted slope the edge's own direction stands for the contours
+FLAT_SLOPE = 1e-4  # below this fitted slope the strip counts as flat (rays go on straight)
 _MIN_CELLS = 6
 _BACK = -0.5  # a fitted normal more than 120° from the edge's outward one points back into the grid
 _H_FLOOR = 1e-3
@@ -51,7 +54,8 @@ _CACHE: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()  # grid -> EdgeC
 
 class EdgeContours(NamedTuple):
     """Per edge (EDGES order): the seaward unit normal of the contours beyond each edge cell
-    (n_cells, 2), whether it came from the plane fit (else the edge's outward normal), and the
+    (n_cells, 2), whether it came from the plane fit (else the edge's outward normal, and rays go
+    on straight there), and the
     coastlines continued beyond the edges as half-lines (m, 4): start x, y and unit direction."""
 
     normals: tuple[NDArray[np.float64], ...]
@@ -205,13 +209,15 @@ def continue_to_deep(
 
     Along the continued ray Snell's invariant sin α / C is conserved (α from the seaward contour
     normal n of `edge_contours`), so sin α0 = sin αe · C0/Ce in deep water. The ray reaches deep
-    water if it heads seaward (cos αe > 0), sin αe < Ce/C0 (otherwise it would turn back first: a
-    trapped ray running along the coast) and its deep-water direction does not cross a coast
-    continued beyond an edge. Returns (reaches, deep-water direction [rad, math]).
+    water if it heads seaward (cos αe > 0) and sin αe < Ce/C0 (otherwise it would turn back
+    first: a trapped ray running along the coast); beyond a flat strip it goes on straight. Either
+    way its deep-water direction, drawn from the exit point, must not cross a coast continued
+    beyond an edge. Returns (reaches, deep-water direction [rad, math]).
     """
     ec = edge_contours(grid)
     nx = np.empty(x.size)
     ny = np.empty(x.size)
+    fit = np.zeros(x.size, dtype=bool)
     for sd in range(4):
         m = side == sd
         if not np.any(m):
@@ -221,12 +227,14 @@ def continue_to_deep(
         pos = (x[m] - o[0]) if sd < 2 else (y[m] - o[1])
         nrm = ec.normals[sd]
         i = np.clip(np.rint(pos / da).astype(np.intp), 0, nrm.shape[0] - 1)
-        nx[m], ny[m] = nrm[i, 0], nrm[i, 1]
+        nx[m], ny[m], fit[m] = nrm[i, 0], nrm[i, 1], ec.fitted[sd][i]
     cs, sn = np.cos(theta), np.sin(theta)
     cos_a = cs * nx + sn * ny
     sin_a = nx * sn - ny * cs  # signed: positive counter-clockwise from n
-    reaches = (cos_a > 0) & (np.abs(sin_a) < u_ratio) & (depth > _H_FLOOR)
+    snell = (cos_a > 0) & (np.abs(sin_a) < u_ratio)
     s0 = np.clip(sin_a / u_ratio, -1.0, 1.0)
-    theta0 = np.arctan2(ny, nx) + np.arcsin(s0)
+    theta0 = np.where(fit, np.arctan2(ny, nx) + np.arcsin(s0), theta)
+    # a flat strip has no contours to refract over: the ray goes on straight (it is leaving the grid)
+    reaches = np.where(fit, snell, cos_a > 0) & (depth > _H_FLOOR)
     reaches &= ~_crosses_coast(x, y, np.cos(theta0), np.sin(theta0), ec.coasts)
     return reaches, np.where(reaches, theta0, theta)

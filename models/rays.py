@@ -16,8 +16,8 @@ direction. Each ray ends
              there, Snell's law over the contours extended beyond the edge lets it reach deep
              water (it heads seaward and is not trapped along the coast). Such a ray is
              *continued*: beyond the edge the contours are taken straight and parallel, in the
-             direction of a plane fitted over a km-long strip of the edge (the edge itself where
-             that bottom is flat; `models.edges`), and Snell's law sin α0 / C0 = sin αe / Ce
+             direction of a plane fitted over a km-long strip of the edge (straight on where that
+             bottom is flat; `models.edges`), and Snell's law sin α0 / C0 = sin αe / Ce
              (Munk & Arthur 1952) gives its deep-water direction `offshore_theta`; `continued`
              marks it. A ray whose deep-water direction crosses a coast that reaches an edge
              (continued straight beyond it) would have come over land and is blocked;

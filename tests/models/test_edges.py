@@ -2,8 +2,9 @@
 
 Checks against exact geometry: least squares recovers a plane's gradient, with independent noise
 to within a small error (ordinary least squares is unbiased under independent noise, the
-Gauss–Markov theorem; Draper & Smith 1998 ch. 2, from memory); a flat noisy strip falls back to
-the edge's own normal; Snell's law at the edge (Munk & Arthur 1952).
+Gauss–Markov theorem; Draper & Smith 1998 ch. 2, from memory); a flat noisy strip has no contours
+and a flat bottom does not refract (Snell with C constant: the direction is kept); Snell's law at
+the edge (Munk & Arthur 1952).
 """
 
 import math
@@ -46,6 +47,12 @@ def test_flat_noisy_floor_takes_the_edge_normal():
         assert not ec.fitted[side].any(), name
         out = {"south": 180.0, "north": 0.0, "west": 270.0, "east": 90.0}[name]
         assert bearing(ec.normals[side][0]) == pytest.approx(out)
+    # a ray leaving such an edge goes on straight, even at 60° off the edge normal
+    g = plane_grid(270.0, slope=0.0, sigma=0.3)
+    th = np.array([math.radians(180.0 - 60.0)])
+    reach, th0 = continue_to_deep(g, np.array([g.x0]), np.array([0.0]), np.array([30.0]), th, np.array([0.6]),
+                                  np.array([2]))  # fmt: skip
+    assert reach[0] and th0[0] == pytest.approx(th[0])
 
 
 def test_snell_at_the_edge():

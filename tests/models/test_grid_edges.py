@@ -158,9 +158,9 @@ def flat_floor_with_coast(sigma=0.1, seed=3):
 
 def test_continued_directions_over_land_stay_closed():
     # At (-1500, 2000), 25 m deep, 1 km off the coast and 1 km from the north edge. A ray traced
-    # back toward the north-north-east leaves the north edge in 25 m; over contours parallel to
-    # that flat edge Snell gives it a deep-water direction from about 20-40° (engine 4 opened
-    # those), but drawn from its exit point that direction crosses the coast continued north: the
+    # back toward the north-north-east leaves the flat north edge in 25 m and would reach deep
+    # water (engine 4 opened those directions, K up to 0.9, over the exit cell's noisy gradient),
+    # but drawn from its exit point its deep-water direction crosses the coast continued north: the
     # swell would have come over land. Swell from the whole sea side (west half) still arrives.
     g = flat_floor_with_coast()
     t = build_table(g, -1500.0, 2000.0, periods_s=[12.0])
