@@ -61,7 +61,9 @@ class Hazard(_Model):
     policy: str
     policy_is_default: bool
     rip_current_likelihood: float | None = Field(
-        default=None, description="0..1, logistic form of Dusek & Seim (2013); placeholder coefficients"
+        default=None,
+        description="0..1, logistic form of Dusek & Seim (2013) with provisional coefficients that are not the "
+        "paper's: a relative guide, not a calibrated probability (docs/surfzone.md §6)",
     )
     shore_break: bool | None = Field(
         default=None, description="breakers plunging or collapsing on a steep foreshore near high water"
@@ -121,6 +123,17 @@ class PointDetail(_Model):
     )
     setup_m: float | None = Field(default=None, description="wave set-up at the shoreline")
     runup_2pct_m: float | None = Field(default=None, description="2 % run-up (Stockdon et al. 2006)")
+
+
+class WindEffect(_Model):
+    """The wind's effect on the step's breaker type (docs/tide-wind.md §3)."""
+
+    method: str = Field(description="whose result and what is ours")
+    onshore_component_m_s: float | None = Field(description="wind toward the shore along the point's normal (negative: offshore)")
+    spilling_below_iribarren: float | None = Field(
+        description="the spilling/plunging boundary on the Iribarren number used (0.4 in still air, Battjes 1974)"
+    )
+    breaker_type_without_wind: str | None = Field(description="the still-air breaker type")
 
 
 class SurfZone(_Model):
@@ -192,6 +205,9 @@ class Step(_Model):
     breaker_type: str | None
     breaking_depth_m: float | None = None
     iribarren: float | None = None
+    wind_effect: WindEffect | None = Field(
+        default=None, description="how the wind moved the breaker type; null without wind or breakers"
+    )
     largest_point: str | None = None
     surf_zone: SurfZone | None = None
     peel: Peel
@@ -279,8 +295,12 @@ class SpotHazard(_Model):
     valid_until: datetime | None
     policy: str | None = None
     policy_is_default: bool | None = None
-    rip_current_likelihood: float | None = Field(default=None, description="at the current step (0..1)")
-    max_rip_current_likelihood: float | None = Field(default=None, description="highest in the horizon")
+    rip_current_likelihood: float | None = Field(
+        default=None, description="at the current step (0..1; provisional coefficients, not the paper's: see Hazard)"
+    )
+    max_rip_current_likelihood: float | None = Field(
+        default=None, description="highest in the horizon (0..1; provisional coefficients, not the paper's)"
+    )
     shore_break: bool | None = Field(default=None, description="shore-break at the current step")
     shore_break_onset: datetime | None = Field(
         default=None, description="first step in the horizon with a shore-break (null: none)"

@@ -194,6 +194,7 @@ def _steps(
     levels = hazard_level(
         policy, set_max, period_s=haz["period_s"], power_kw_m=haz["power_kw_m"],
         rip_likelihood=haz["rip"], shore_break=haz["shore_break"],
+        **(conditions.hazard_inputs() if conditions is not None else {"water_level_m": arr.water_level}),
     )  # fmt: skip
     names = [p.name for p in points]
     ok_l = any_has.tolist()
@@ -267,20 +268,37 @@ def _steps(
     estimate = batch.estimate or [None] * nt
     cfs = cf or [{}] * nt
     source, kind, issued = batch.source, batch.kind, batch.issued
+    wind_fx = [w if ok else None for w, ok in zip(wind_effects(arr, ip, tt), ok_l, strict=True)]
     cols = zip(
-        batch.times, observed, coverage or [None] * nt, estimate, hc, period, ndir, btype, bdepth, xi, largest, zones,
-        peels, hazard, offshore, swells, details, cfs, strict=True,
+        batch.times, observed, coverage or [None] * nt, estimate, hc, period, ndir, btype, bdepth, xi, wind_fx,
+        largest, zones, peels, hazard, offshore, swells, details, cfs, strict=True,
     )  # fmt: skip
     return [
         {
             "time": t, "source": source, "input": kind, "issued": issued, "observed_at": obs,
             "arrival_coverage": cov, "directional_estimate": est, h_on: h, h_off: None, "period_s": per,
             "nearshore_direction_deg": nd, "breaker_type": bt, "breaking_depth_m": bd, "iribarren": x,
-            "largest_point": lp, "surf_zone": z, "peel": pl, "hazard": hz, "offshore": of, "swells": sw,
+            "wind_effect": we, "largest_point": lp, "surf_zone": z, "peel": pl, "hazard": hz, "offshore": of, "swells": sw,
             "points": pts, **c,
         }
-        for t, obs, cov, est, h, per, nd, bt, bd, x, lp, z, pl, hz, of, sw, pts, c in cols
+        for t, obs, cov, est, h, per, nd, bt, bd, x, we, lp, z, pl, hz, of, sw, pts, c in cols
     ]  # fmt: skip
+
+
+WIND_METHOD = ("Douglass (1990): onshore wind breaks earlier and spills, offshore wind holds waves up and "
+               "plunges; the size of the shift is shoalcast's, not the paper's")
+
+
+def wind_effects(arr: SpotArrays, ip: np.ndarray, tt: np.ndarray) -> list[dict[str, Any] | None]:
+    """Per step at its point: the wind's onshore component, the breaker-type boundary it gave and
+    the still-air type (`models.surf`); None without wind."""
+    if arr.wind_onshore_m_s is None or arr.spilling_limit is None or arr.breaker_type_still is None:
+        return [None] * tt.size
+    on, lim = nums(arr.wind_onshore_m_s[ip, tt]), nums(arr.spilling_limit[ip, tt], 0.01)
+    still = arr.breaker_type_still[ip, tt, 1].tolist()
+    return [None if o is None else dict(method=WIND_METHOD, onshore_component_m_s=o, spilling_below_iribarren=q,
+                                        breaker_type_without_wind=s or None)
+            for o, q, s in zip(on, lim, still, strict=True)]  # fmt: skip
 
 
 def hazard_inputs(

@@ -28,7 +28,7 @@ from app.web.render import render
 __all__ = ["router"]
 
 router = APIRouter(include_in_schema=False)
-PAGE_VERSION = "pages-1"  # part of every page ETag: bump when a template changes what it shows
+PAGE_VERSION = "pages-2"  # part of every page ETag: bump when a template changes what it shows
 STALE_AFTER = timedelta(hours=3)
 # Rendered spot pages per ETag, as the JSON outlook keeps its bytes: the ETag holds the data version,
 # the hour, the preferences and the latest verification, so an entry is never out of date, and a

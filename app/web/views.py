@@ -251,7 +251,7 @@ def outlook_view(body: Mapping[str, Any], *, timezone: str | None, prefs: Prefs,
             "period": _fmt(s.get("period_s"), 0, "s"),
             "direction": compass(s.get("nearshore_direction_deg")),
             "peel": _peel(s.get("peel")),
-            "breaker_type": s.get("breaker_type") or "–",
+            "breaker_type": breaker_text(s.get("breaker_type"), s.get("wind_effect")),
             "input": str(s.get("input") or ""),
             "water": _water(s, prefs.units),
             "wind": _wind(s, prefs.units),
@@ -305,6 +305,31 @@ def outlook_view(body: Mapping[str, Any], *, timezone: str | None, prefs: Prefs,
     }
 
 
+def breaker_text(kind: Any, wind_effect: Any) -> str:
+    """The breaker type, marked "(wind)" where the wind changed it from the still-air one."""
+    if not kind:
+        return "–"
+    still = wind_effect.get("breaker_type_without_wind") if isinstance(wind_effect, Mapping) else None
+    return f"{kind} (wind)" if still and still != kind else str(kind)
+
+
+def percent(p: Any) -> str:
+    """A likelihood 0..1 as whole percent ('–' when there is none)."""
+    return "–" if p is None else f"{round(float(p) * 100):d} %"
+
+
+def shore_break_text(now: Any, onset: Any, zone: Any = None) -> str:
+    """'now', 'from <time UTC>' (and spot time), 'none ahead', or '–' without an outlook."""
+    if now is None and onset is None:
+        return "–"
+    if now:
+        return "now"
+    if onset:
+        text = "from " + when(onset, None, fmt="%a %d %H:%M UTC")
+        return text + (f", {when(onset, zone, fmt='%H:%M')} {zone_label(zone, _time(onset))}" if zone else "")
+    return "none ahead"
+
+
 def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dict[str, Any]]:
     """An agency's hazard summary (JSON-mode dict) as rows; onsets in each spot's zone and in UTC."""
     out = []
@@ -312,6 +337,7 @@ def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dic
         zone, _ = spot_zone(zones.get(s.get("spot_id", ""), "UTC"))
         local = str(zone.key) not in ("UTC", "Etc/UTC")
         onset = s.get("onset")
+        sb_onset = s.get("shore_break_onset")
         out.append({
             "spot_id": s.get("spot_id"),
             "name": s.get("name"),
@@ -321,6 +347,9 @@ def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dic
             "onset_local": (when(onset, zone, fmt="%a %d %H:%M ") + zone_label(zone, _time(onset) or datetime.now(UTC)))
             if onset and local else None,
             "valid_until": when(s.get("valid_until"), None, fmt="%H:%M UTC") if s.get("valid_until") else "–",
+            "rip_now": percent(s.get("rip_current_likelihood")),
+            "rip_max": percent(s.get("max_rip_current_likelihood")),
+            "shore_break": shore_break_text(s.get("shore_break"), sb_onset, zone if local else None),
             "note": s.get("note"),
             "policy": s.get("policy"),
             "policy_is_default": s.get("policy_is_default"),
