@@ -11,11 +11,22 @@ enough (long-period surges and powerful swell are hazards on their own); with ``
 every given criterion must hold. Thresholds are inclusive (``>=``) and must not decrease with
 level, so the levels are nested.
 
+Rules. A level may also list ``rules``: each rule is one more way to reach the level, and holds
+when every condition it gives holds (and), so "shore-break and the water level at or above 1.5 m"
+or "onshore wind of 10 m/s or more" are one rule each. A level is reached when its criteria hold
+(by ``combine``) or any one of its rules holds. Rule conditions: the criteria above, plus the water
+level (``water_level_m`` at or above, ``water_level_below_m`` below; m above the bathymetry datum),
+the tide's ``tide_trend`` (rising | falling), ``wind_speed_m_s`` (at or above) and
+``wind_relative`` (any of offshore | cross | onshore). A condition on an input a step does not have
+(no wind source, no tide trend, no rip likelihood) does not hold there: the rule cannot be shown to
+apply. Rules are alternatives, so they are not required to increase with level.
+
 Inputs are nearshore (what arrives at the spot, docs/surfzone.md §6): the sets breaker height, the
 nearshore peak period and wave power at the table's reference point, the rip-current likelihood
-(`rip_current_likelihood`) and the shore-break flag (`shore_break`). A sheltered spot's level is
-therefore not raised by offshore energy its swell window blocks. A policy may say
-``basis = "offshore"`` to test its period and power thresholds on the offshore values instead.
+(`rip_current_likelihood`) and the shore-break flag (`shore_break`), and the step's water level,
+tide trend and wind (docs/tide-wind.md). A sheltered spot's level is therefore not raised by
+offshore energy its swell window blocks. A policy may say ``basis = "offshore"`` to test its
+period and power thresholds on the offshore values instead.
 
 Every hazard result carries `CAUTION`: this is guidance, and the agency's own procedures,
 lifeguards, official warnings and local rules decide.
@@ -40,7 +51,11 @@ __all__ = [
     "DEFAULT_POLICY",
     "HazardLevel",
     "HazardPolicy",
+    "HazardRule",
     "HazardSummary",
+    "RIP_CAUTION",
+    "TIDE_TRENDS",
+    "WIND_RELATIVE",
     "hazard_level",
     "hazard_summary",
     "rip_current_likelihood",
@@ -53,12 +68,45 @@ CAUTION = (
     "official warnings and local rules decide."
 )
 
+# shown wherever the rip-current likelihood is (CLI, API, pages, CAP): its coefficients are ours
+RIP_CAUTION = (
+    "Rip-current likelihood: the logistic form of Dusek & Seim (2013) with provisional coefficients "
+    "that are not the paper's; read it as a relative guide, not a calibrated probability."
+)
+
 N_LEVELS = 4  # levels 0..3
+TIDE_TRENDS = ("rising", "falling")
+WIND_RELATIVE = ("offshore", "cross", "onshore")  # models.conditions.relative_wind
+
+
+@dataclass(frozen=True)
+class HazardRule:
+    """One more way to reach a level: holds where every condition given holds (see the module
+    docstring). Thresholds inclusive (``>=``) except `water_level_below_m` (``<``)."""
+
+    set_height_m: float | None = None
+    period_s: float | None = None
+    power_kw_m: float | None = None
+    rip_likelihood: float | None = None  # 0..1
+    shore_break: bool | None = None  # True: a shore-break is flagged; False: none is
+    water_level_m: float | None = None  # at or above [m above the bathymetry datum]
+    water_level_below_m: float | None = None  # below [m above the bathymetry datum]
+    tide_trend: str | None = None  # rising | falling
+    wind_speed_m_s: float | None = None  # at or above
+    wind_relative: tuple[str, ...] | None = None  # any of WIND_RELATIVE
+
+    def to_mapping(self) -> dict[str, Any]:
+        return {k: (list(v) if isinstance(v, tuple) else v) for k, v in vars(self).items() if v is not None}
+
+
+_RULE_FIELDS = tuple(HazardRule.__dataclass_fields__)
+_RULE_NONNEG = ("set_height_m", "period_s", "power_kw_m", "rip_likelihood", "wind_speed_m_s")
 
 
 @dataclass(frozen=True)
 class HazardLevel:
-    """One level of a policy. Level 0 has no thresholds; levels 1..3 need `set_height_m`."""
+    """One level of a policy. Level 0 has no thresholds; levels 1..3 need `set_height_m` or at
+    least one rule."""
 
     level: int
     label: str
@@ -68,6 +116,7 @@ class HazardLevel:
     power_kw_m: float | None = None
     rip_likelihood: float | None = None  # 0..1
     shore_break: bool | None = None  # True: a shore-break step reaches this level
+    rules: tuple[HazardRule, ...] = ()
 
 
 _THRESHOLDS = ("set_height_m", "period_s", "power_kw_m", "rip_likelihood")
@@ -92,13 +141,17 @@ class HazardPolicy:
             raise InvalidInput(f"`level` must be 0..3, got {level!r}")
         return self.levels[int(level)].label
 
+    def _uses(self, name: str) -> bool:
+        return any(getattr(lv, name) is not None or any(getattr(r, name) is not None for r in lv.rules)
+                   for lv in self.levels)  # fmt: skip
+
     @property
     def uses_period(self) -> bool:
-        return any(lv.period_s is not None for lv in self.levels)
+        return self._uses("period_s")
 
     @property
     def uses_power(self) -> bool:
-        return any(lv.power_kw_m is not None for lv in self.levels)
+        return self._uses("power_kw_m")
 
     @property
     def uses_rip(self) -> bool:
@@ -124,7 +177,7 @@ class HazardPolicy:
         for i, item in enumerate(raw):
             if not isinstance(item, Mapping):
                 raise InvalidInput(f"`policy.levels[{i}]` must be a table, got {type(item).__name__}")
-            unknown = set(item) - {"level", "label", "description", *_THRESHOLDS, "shore_break"}
+            unknown = set(item) - {"level", "label", "description", *_THRESHOLDS, "shore_break", "rules"}
             if unknown:
                 raise InvalidInput(f"`policy.levels[{i}]` has unknown keys {sorted(unknown)}")
             try:
@@ -138,10 +191,13 @@ class HazardPolicy:
                         power_kw_m=_opt_float(item.get("power_kw_m")),
                         rip_likelihood=_opt_float(item.get("rip_likelihood")),
                         shore_break=_opt_bool(item.get("shore_break"), f"policy.levels[{i}].shore_break"),
+                        rules=_rules_from(item.get("rules"), f"policy.levels[{i}].rules"),
                     )
                 )
             except KeyError:
                 raise InvalidInput(f"`policy.levels[{i}].label` is required") from None
+            except InvalidInput:
+                raise
             except (TypeError, ValueError, OverflowError) as exc:
                 raise InvalidInput(f"`policy.levels[{i}]`: {exc}") from None
         return cls(
@@ -159,13 +215,73 @@ class HazardPolicy:
             "is_default": self.is_default,
             "basis": self.basis,
             "levels": [
-                {k: v for k, v in vars(lv).items() if v is not None} for lv in self.levels
+                {k: ([r.to_mapping() for r in v] if k == "rules" else v) for k, v in vars(lv).items()
+                 if v is not None and v != ()}
+                for lv in self.levels
             ],
-        }
+        }  # fmt: skip
 
 
 def _opt_float(v: Any) -> float | None:
     return None if v is None else float(v)
+
+
+def _rules_from(raw: Any, where: str) -> tuple[HazardRule, ...]:
+    if raw is None:
+        return ()
+    if not isinstance(raw, Sequence) or isinstance(raw, str | bytes):
+        raise InvalidInput(f"`{where}` must be a list of rule tables, got {type(raw).__name__}")
+    out = []
+    for j, item in enumerate(raw):
+        w = f"{where}[{j}]"
+        if not isinstance(item, Mapping):
+            raise InvalidInput(f"`{w}` must be a table, got {type(item).__name__}")
+        unknown = set(item) - set(_RULE_FIELDS)
+        if unknown:
+            raise InvalidInput(f"`{w}` has unknown keys {sorted(unknown)}; a rule takes {list(_RULE_FIELDS)}")
+        kw: dict[str, Any] = {}
+        for k, v in item.items():
+            if v is None:
+                continue
+            if k == "shore_break":
+                kw[k] = _opt_bool(v, f"{w}.shore_break")
+            elif k == "tide_trend":
+                kw[k] = str(v)
+            elif k == "wind_relative":
+                kw[k] = (str(v),) if isinstance(v, str) else tuple(str(x) for x in v)
+            else:
+                try:
+                    kw[k] = float(v)
+                except (TypeError, ValueError, OverflowError):
+                    raise InvalidInput(f"`{w}.{k}` must be a number, got {v!r}") from None
+        out.append(HazardRule(**kw))
+    return tuple(out)
+
+
+def _check_rule(r: HazardRule, where: str) -> None:
+    if not isinstance(r, HazardRule):
+        raise InvalidInput(f"`{where}` must be a HazardRule, got {type(r).__name__}")
+    if all(getattr(r, k) is None for k in _RULE_FIELDS):
+        raise InvalidInput(f"`{where}` has no conditions; give at least one of {list(_RULE_FIELDS)}")
+    for k in (*_RULE_NONNEG, "water_level_m", "water_level_below_m"):
+        v = getattr(r, k)
+        if v is None:
+            continue
+        if not math.isfinite(v) or (k in _RULE_NONNEG and v < 0):
+            raise InvalidInput(f"`{where}.{k}` must be finite{' and >= 0' if k in _RULE_NONNEG else ''}, got {v!r}")
+    if r.rip_likelihood is not None and r.rip_likelihood > 1:
+        raise InvalidInput(f"`{where}.rip_likelihood` is a probability (0..1), got {r.rip_likelihood!r}")
+    if r.water_level_m is not None and r.water_level_below_m is not None and r.water_level_below_m <= r.water_level_m:
+        raise InvalidInput(f"`{where}.water_level_below_m` ({r.water_level_below_m!r}) must be above "
+                           f"`water_level_m` ({r.water_level_m!r}), or the rule never holds")  # fmt: skip
+    if r.tide_trend is not None and r.tide_trend not in TIDE_TRENDS:
+        raise InvalidInput(f"`{where}.tide_trend` must be 'rising' or 'falling', got {r.tide_trend!r}")
+    if r.wind_relative is not None:
+        if not r.wind_relative:
+            raise InvalidInput(f"`{where}.wind_relative` must list at least one of {list(WIND_RELATIVE)}")
+        bad = [x for x in r.wind_relative if x not in WIND_RELATIVE]
+        if bad:
+            raise InvalidInput(f"`{where}.wind_relative` must be among {list(WIND_RELATIVE)}, got {bad[0]!r}")
 
 
 def _opt_bool(v: Any, where: str) -> bool | None:
@@ -187,6 +303,10 @@ def _check_policy(p: HazardPolicy) -> None:
             raise InvalidInput(f"`{where}.level` must be {i} (levels in order 0..3), got {lv.level!r}")
         if not lv.label.strip():
             raise InvalidInput(f"`{where}.label` must not be empty")
+        if lv.rules and i == 0:
+            raise InvalidInput(f"`{where}.rules`: level 0 takes no rules")
+        for j, r in enumerate(lv.rules):
+            _check_rule(r, f"{where}.rules[{j}]")
         for name in (*_THRESHOLDS, "shore_break"):
             v = getattr(lv, name)
             if v is None:
@@ -199,8 +319,8 @@ def _check_policy(p: HazardPolicy) -> None:
                 raise InvalidInput(f"`{where}.{name}` must be finite and >= 0, got {v!r}")
             if name == "rip_likelihood" and v > 1:
                 raise InvalidInput(f"`{where}.rip_likelihood` is a probability (0..1), got {v!r}")
-        if i >= 1 and lv.set_height_m is None:
-            raise InvalidInput(f"`{where}.set_height_m` is required for levels 1..3")
+        if i >= 1 and lv.set_height_m is None and not lv.rules:
+            raise InvalidInput(f"`{where}.set_height_m` is required for levels 1..3 (or give `rules`)")
     for name in _THRESHOLDS:
         prev = -math.inf
         for i in range(1, N_LEVELS):
@@ -242,6 +362,18 @@ def _series(x: ArrayLike | None, name: str, needed: bool) -> NDArray[np.float64]
     return a
 
 
+def _labels(x: ArrayLike | None, name: str, allowed: tuple[str, ...]) -> NDArray[np.object_] | None:
+    """Per-step labels (None or '' where the input is missing at that step)."""
+    if x is None:
+        return None
+    a = np.asarray(x, dtype=object)
+    flat = a.ravel()
+    for i, v in enumerate(flat.tolist()):
+        if v is not None and v != "" and v not in allowed:
+            raise InvalidInput(f"`{name}` must be one of {list(allowed)} (or null), got {v!r} at index {i}")
+    return a
+
+
 def hazard_level(
     policy: HazardPolicy,
     set_height_m: ArrayLike,
@@ -250,6 +382,10 @@ def hazard_level(
     *,
     rip_likelihood: ArrayLike | None = None,
     shore_break: ArrayLike | None = None,
+    water_level_m: ArrayLike | None = None,
+    tide_trend: ArrayLike | None = None,
+    wind_speed_m_s: ArrayLike | None = None,
+    wind_relative: ArrayLike | None = None,
 ) -> NDArray[np.int8]:
     """Hazard level 0..3 per element (inputs broadcast together).
 
@@ -261,28 +397,37 @@ def hazard_level(
     power_kw_m : wave power [kW/m]; required if the policy has power thresholds
     rip_likelihood : 0..1 (`rip_current_likelihood`); without it rip thresholds are not tested
     shore_break : bool flags (`shore_break`); without them shore-break levels are not tested
+    water_level_m : water level above the bathymetry datum [m] (NaN: unknown at that step)
+    tide_trend : 'rising' | 'falling' | None per step
+    wind_speed_m_s : [m/s], NaN where there is no wind
+    wind_relative : 'offshore' | 'cross' | 'onshore' | None per step
+
+    Rule conditions on an input not given (or missing at a step) do not hold.
     """
     if not isinstance(policy, HazardPolicy):
         raise InvalidInput(f"`policy` must be a HazardPolicy, got {type(policy).__name__}")
-    h = _series(set_height_m, "set_height_m", True)
-    t = _series(period_s, "period_s", policy.uses_period)
-    p = _series(power_kw_m, "power_kw_m", policy.uses_power)
-    r = _series(rip_likelihood, "rip_likelihood", False)  # not given: those criteria are not tested
-    sb = None if shore_break is None else np.asarray(shore_break, dtype=bool)
-    given = [a for a in (h, t, p, r, sb) if a is not None]
+    named: dict[str, Any] = {
+        "set_height_m": _series(set_height_m, "set_height_m", True),
+        "period_s": _series(period_s, "period_s", policy.uses_period),
+        "power_kw_m": _series(power_kw_m, "power_kw_m", policy.uses_power),
+        "rip_likelihood": _series(rip_likelihood, "rip_likelihood", False),  # not given: not tested
+        "shore_break": None if shore_break is None else np.asarray(shore_break, dtype=bool),
+        "water_level_m": _finite_or_nan(water_level_m, "water_level_m"),
+        "tide_trend": _labels(tide_trend, "tide_trend", TIDE_TRENDS),
+        "wind_speed_m_s": _finite_or_nan(wind_speed_m_s, "wind_speed_m_s", nonneg=True),
+        "wind_relative": _labels(wind_relative, "wind_relative", WIND_RELATIVE),
+    }
+    keys = [k for k, v in named.items() if v is not None]
     try:
-        arrays = np.broadcast_arrays(*given)
+        arrays = np.broadcast_arrays(*(named[k] for k in keys))
     except ValueError as exc:
         raise InvalidInput(f"the hazard inputs' shapes do not broadcast: {exc}") from None
-    h = arrays[0]
-    rest = iter(arrays[1:])
-    t = next(rest) if t is not None else None
-    p = next(rest) if p is not None else None
-    r = next(rest) if r is not None else None
-    sb = next(rest) if sb is not None else None
+    x: dict[str, Any] = dict.fromkeys(named)
+    x.update(zip(keys, arrays, strict=True))
+    h, t, p, r, sb = (x[k] for k in ("set_height_m", "period_s", "power_kw_m", "rip_likelihood", "shore_break"))
     level = np.zeros(h.shape, dtype=np.int8)
     for lv in policy.levels[1:]:
-        tests = [h >= lv.set_height_m]
+        tests = [] if lv.set_height_m is None else [h >= lv.set_height_m]
         if lv.period_s is not None:
             tests.append(t >= lv.period_s)
         if lv.power_kw_m is not None:
@@ -291,10 +436,51 @@ def hazard_level(
             tests.append(r >= lv.rip_likelihood)
         if lv.shore_break and sb is not None:
             tests.append(sb)
-        hit = np.logical_or.reduce(tests) if policy.combine == "any" else np.logical_and.reduce(tests)
+        if not tests:
+            hit = np.zeros(h.shape, dtype=bool)
+        else:
+            hit = np.logical_or.reduce(tests) if policy.combine == "any" else np.logical_and.reduce(tests)
+        for rule in lv.rules:
+            hit = hit | _rule_holds(rule, x, h.shape)
         # nested thresholds: a higher level reached overrides the lower one
         level[hit] = lv.level
     return level
+
+
+def _finite_or_nan(v: ArrayLike | None, name: str, *, nonneg: bool = False) -> NDArray[np.float64] | None:
+    """A float series where NaN means 'unknown at that step'; infinities (and negatives) refused."""
+    if v is None:
+        return None
+    a = np.asarray(v, dtype=float)
+    bad = np.isinf(a) | ((a < 0) if nonneg else False)
+    if np.any(bad):
+        idx = tuple(int(i) for i in np.argwhere(bad)[0])
+        raise InvalidInput(f"`{name}` must be finite{' and >= 0' if nonneg else ''} (or NaN: unknown), "
+                           f"got {a[idx]!r} at index {idx}")  # fmt: skip
+    return a
+
+
+def _rule_holds(rule: HazardRule, x: dict[str, Any], shape: tuple[int, ...]) -> NDArray[np.bool_]:
+    """Where every condition of `rule` holds; a condition on a missing input does not."""
+    ok = np.ones(shape, dtype=bool)
+    with np.errstate(invalid="ignore"):  # NaN compares False: unknown does not hold
+        for k in ("set_height_m", "period_s", "power_kw_m", "rip_likelihood", "water_level_m", "wind_speed_m_s"):
+            thr = getattr(rule, k)
+            if thr is not None:
+                ok &= False if x[k] is None else (x[k] >= thr)
+        if rule.water_level_below_m is not None:
+            w = x["water_level_m"]
+            ok &= False if w is None else (w < rule.water_level_below_m)
+        if rule.shore_break is not None:
+            sb = x["shore_break"]
+            ok &= False if sb is None else (sb == rule.shore_break)
+        if rule.tide_trend is not None:
+            tr = x["tide_trend"]
+            ok &= False if tr is None else (tr == rule.tide_trend).astype(bool)
+        if rule.wind_relative is not None:
+            wr = x["wind_relative"]
+            ok &= False if wr is None else np.logical_or.reduce([(wr == v).astype(bool) for v in rule.wind_relative])
+    return ok
 
 
 # Rip-current likelihood: the logistic form and predictors of Dusek & Seim (2013, "A probabilistic

@@ -15,10 +15,12 @@ direction. Each ray ends
              least min(`edge_min_depth`, wave base), and, if it is still short of its wave base
              there, Snell's law over the contours extended beyond the edge lets it reach deep
              water (it heads seaward and is not trapped along the coast). Such a ray is
-             *continued*: beyond the edge the contours are taken straight and parallel to the
-             contour where it left (the edge itself where the bottom there is flat), and Snell's
-             law sin α0 / C0 = sin αe / Ce (Munk & Arthur 1952) gives its deep-water direction
-             `offshore_theta`; `continued` marks it;
+             *continued*: beyond the edge the contours are taken straight and parallel, in the
+             direction of a plane fitted over a km-long strip of the edge (straight on where that
+             bottom is flat; `models.edges`), and Snell's law sin α0 / C0 = sin αe / Ce
+             (Munk & Arthur 1952) gives its deep-water direction `offshore_theta`; `continued`
+             marks it. A ray whose deep-water direction crosses a coast that reaches an edge
+             (continued straight beyond it) would have come over land and is blocked;
     BLOCKED  depth < `min_depth` (land, sheltering); or a bottom slope steeper than `max_slope`
              (default 1:3, about where the mild-slope approximation behind ray refraction stops
              holding, Booij 1983, from memory): a cliff, jetty or island wall, which a grid can
@@ -48,6 +50,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from models.bathymetry import DepthGrid
 from models.constants import TWO_PI, G
+from models.edges import continue_to_deep
 from models.errors import InvalidInput
 from models.waves import group_velocity_ratio, wavenumber
 
@@ -157,45 +160,6 @@ def _edge_of(x: NDArray[np.float64], y: NDArray[np.float64], extent) -> NDArray[
     xmin, xmax, ymin, ymax = extent
     dist = np.stack([y - ymin, ymax - y, x - xmin, xmax - x], axis=-1)
     return np.argmin(np.abs(dist), axis=-1)
-
-
-# below this bottom slope the edge's own direction stands for the contours beyond it (a noisy,
-# nearly flat edge has no contour direction worth extrapolating)
-_FLAT_SLOPE = 1e-4
-
-_EDGE_NORMALS = np.array([[0.0, -1.0], [0.0, 1.0], [-1.0, 0.0], [1.0, 0.0]])  # outward, per EDGES
-
-
-def _continue_to_deep(
-    smp: NDArray[np.float64], theta: NDArray[np.float64], k0: NDArray[np.float64], side: NDArray[np.intp]
-) -> tuple[NDArray[np.bool_], NDArray[np.float64]]:
-    """For rays leaving the grid short of their wave base: can they come from deep water, and from
-    which direction?
-
-    Beyond the edge the bottom is taken as straight, parallel contours: those at the exit point
-    (seaward normal n = ∇h/|∇h|), or parallel to the edge (n = its outward normal) where the
-    bottom there is flat. Along the continued ray Snell's invariant sin α / C is conserved
-    (α from n), so sin α0 = sin αe · C0/Ce in deep water (Munk & Arthur 1952; SPM 1984 §2-III).
-    The ray reaches deep water if it heads seaward (cos αe > 0) and sin αe < Ce/C0; otherwise
-    it would run ashore or turn back first (a trapped ray running along the coast) and brings no
-    offshore swell. Returns (reaches, deep-water direction [rad, math]).
-    """
-    h = np.maximum(smp[:, 0], _H_FLOOR)
-    gx, gy = smp[:, 1], smp[:, 2]
-    gn = np.hypot(gx, gy)
-    flat = gn < _FLAT_SLOPE
-    gns = np.where(flat, 1.0, gn)
-    nx = np.where(flat, _EDGE_NORMALS[side, 0], gx / gns)
-    ny = np.where(flat, _EDGE_NORMALS[side, 1], gy / gns)
-    cs, sn = np.cos(theta), np.sin(theta)
-    cos_a = cs * nx + sn * ny
-    sin_a = nx * sn - ny * cs  # signed: positive counter-clockwise from n
-    u = np.sqrt(k0 * h)
-    c_ratio = u / _lookup(u)[:, 1]  # Ce/C0
-    reaches = (cos_a > 0) & (np.abs(sin_a) < c_ratio)
-    s0 = np.clip(sin_a / c_ratio, -1.0, 1.0)
-    theta0 = np.arctan2(ny, nx) + np.arcsin(s0)
-    return reaches, np.where(reaches, theta0, theta)
 
 
 def trace_rays(
@@ -397,7 +361,8 @@ def trace_rays(
             smp = grid.sample(st[sel, 0], st[sel, 1])
             he = smp[:, 0]
             side = _edge_of(st[sel, 0], st[sel, 1], grid.extent)
-            reach, th0 = _continue_to_deep(smp, st[sel, 2], k0[sel], side)
+            u = np.sqrt(k0[sel] * np.maximum(he, _H_FLOOR))
+            reach, th0 = continue_to_deep(grid, st[sel, 0], st[sel, 1], he, st[sel, 2], u / _lookup(u)[:, 1], side)
             ok = (he >= edge_depth[sel]) & edge_open[side] & (deep[sel] | reach)
             handed = np.zeros(sel.size, dtype=bool) if pass_through is None else pass_through(st[sel, 0], st[sel, 1])
             m_open = np.zeros(idx.size, dtype=bool)

@@ -73,8 +73,10 @@ __all__ = [
 ]
 
 # 3: tables carry the surf-zone depth profile (models.surfzone); 4: rays leaving an edge short of the
-# wave base are continued to deep water (Snell), the invariant is read as C0·Cg0, regional grids
-ENGINE_VERSION = "shoalcast-rays-4"
+# wave base are continued to deep water (Snell), the invariant is read as C0·Cg0, regional grids;
+# 5: the contours beyond an edge come from plane fits over km-long strips, coasts that reach an
+# edge go on beyond it (models.edges)
+ENGINE_VERSION = "shoalcast-rays-5"
 
 # 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
 DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
@@ -277,26 +279,44 @@ def _point_bin(d, q, nd: int, width: float) -> NDArray[np.float64]:
     return np.stack([np.bincount(k, weights=q[:, c], minlength=nd) for c in range(q.shape[1])], axis=-1)
 
 
-def _map_period(status, d_off, beta_near, w, tc, te, cont, gap, unit: float, nd: int, width: float, fold: float):
+def _wrap(d):
+    return ((d + 180.0) % 360.0) - 180.0
+
+
+def _map_period(status, d_off, beta_near, w, tc, te, cont, gap, unit: float, nd: int, width: float, fold: float, d_exit=None):
     """Interval mapping for one period. Inputs (nr,) in launch order (cyclic); `gap` (nr,) is the
     launch measure from each ray to the next in units of `unit` [deg]; `cont` (nr,) 1.0 for rays
-    continued beyond an edge. Returns the per-bin sums (nd, 7: energy, its direction vector,
-    crest and energy times, covered width, continued energy) and the unresolved launch measure
-    [deg] (split pairs with an open end)."""
+    continued beyond an edge, `d_exit` (nr,) their direction where they left the grid [deg].
+    Returns the per-bin sums (nd, 7: energy, its direction vector, crest and energy times,
+    covered width, continued energy) and the unresolved launch measure [deg] (split pairs with
+    an open end)."""
     nxt = np.roll(np.arange(status.size), -1)
     op = status == OPEN
-    jump = ((d_off[nxt] - d_off + 180.0) % 360.0) - 180.0
-    bjump = ((beta_near[nxt] - beta_near + 180.0) % 360.0) - 180.0
+    jump = _wrap(d_off[nxt] - d_off)
+    bjump = _wrap(beta_near[nxt] - beta_near)
     regular = op & op[nxt] & (np.abs(jump) <= fold)
-    tiny = regular & (np.abs(jump) < 1e-9)
+    lo_all = d_off + np.minimum(jump, 0.0)
+    hi_all = d_off + np.maximum(jump, 0.0)
+    if d_exit is not None:
+        # Snell over straight contours only spreads a beam: dθ0/dθe = (C0/Ce)·cos αe / cos α0 > 1.
+        # A pair of continued rays whose offshore interval is narrower than their exit interval
+        # got it from contour normals that differ between the two (tube compression, a spurious
+        # caustic near grazing incidence): it is spread over its exit interval's width instead.
+        both = regular & (cont > 0.5) & (cont[nxt] > 0.5)
+        ej = np.abs(_wrap(d_exit[nxt] - d_exit))
+        narrow = both & (ej > np.abs(jump))
+        mid = d_off + 0.5 * jump
+        lo_all = np.where(narrow, mid - 0.5 * ej, lo_all)
+        hi_all = np.where(narrow, mid + 0.5 * ej, hi_all)
+    tiny = regular & (hi_all - lo_all < 1e-9)
     spread = regular & ~tiny
     meas = gap * unit
 
     # regular intervals: quantities at the interval middle
     a = np.flatnonzero(spread)
     b = nxt[a]
-    lo = np.minimum(d_off[a], d_off[a] + jump[a])
-    hi = np.maximum(d_off[a], d_off[a] + jump[a])
+    lo = lo_all[a]
+    hi = hi_all[a]
     wm = 0.5 * (w[a] + w[b])
     bm = np.radians(beta_near[a] + 0.5 * bjump[a])
     m = meas[a] * wm
@@ -475,6 +495,7 @@ def _trace_table_rows(
         acc, unresolved[p] = _map_period(
             st, _math_to_nautical(d["offshore_theta"]), _math_to_nautical(unit * d["u"] * (math.pi / 180.0)),
             w, tc, te, d["continued"].astype(float), gap, unit, nd, width, opts["fold_jump_deg"],
+            _math_to_nautical(d["theta"]),
         )  # fmt: skip
         e = acc[:, 0]
         has = e > 1e-9 * unit  # below: round-off of the cumulative sums (an empty bin)

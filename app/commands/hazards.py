@@ -21,16 +21,29 @@ def _run(args: argparse.Namespace) -> int:
         [
             h.spot_id, "-" if h.level is None else f"{h.level} {h.label}",
             "-" if h.max_level is None else f"{h.max_level} {h.max_label}",
-            "-" if h.onset is None else rfc3339(h.onset), "-" if h.valid_until is None else rfc3339(h.valid_until),
-            h.note or "",
+            "-" if h.onset is None else rfc3339(h.onset),
+            f"{_pct(h.rip_current_likelihood)} / {_pct(h.max_rip_current_likelihood)}",
+            _shore_break(h), "-" if h.valid_until is None else rfc3339(h.valid_until), h.note or "",
         ]
         for h in result.spots
     ]  # fmt: skip
-    print_table(["spot", "now", "highest", "from", "valid until", "note"], rows)
+    print_table(["spot", "now", "highest", "from", "rip now / max", "shore-break", "valid until", "note"], rows)
     print()
     for c in result.cautions:
         print(f"! {c}")
     return 0
+
+
+def _pct(p: float | None) -> str:
+    return "-" if p is None else f"{round(p * 100):d}%"
+
+
+def _shore_break(h) -> str:  # type: ignore[no-untyped-def]
+    if h.level is None:
+        return "-"
+    if h.shore_break:
+        return "now"
+    return "none ahead" if h.shore_break_onset is None else f"from {rfc3339(h.shore_break_onset)}"
 
 
 def register(sub: argparse._SubParsersAction) -> None:

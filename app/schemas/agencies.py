@@ -5,10 +5,51 @@ from __future__ import annotations
 from datetime import datetime
 from typing import Literal
 
-from pydantic import BaseModel, ConfigDict, Field, model_validator
+from pydantic import BaseModel, ConfigDict, Field, field_validator, model_validator
 
 from app.cautions import HAZARD as HAZARD_CAUTIONS
 from app.schemas.profile import SLUG
+
+WindRelative = Literal["offshore", "cross", "onshore"]
+
+
+class RuleSpec(BaseModel):
+    """One more way to reach a level: every condition given must hold (models/hazard.py, docs/policies.md)."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+
+    set_height_m: float | None = Field(default=None, ge=0, le=30)
+    period_s: float | None = Field(default=None, ge=0, le=40)
+    power_kw_m: float | None = Field(default=None, ge=0, le=10000)
+    rip_likelihood: float | None = Field(
+        default=None, ge=0, le=1, description="at or above (0..1; provisional coefficients, docs/surfzone.md §6)"
+    )
+    shore_break: bool | None = Field(default=None, description="true: a shore-break is flagged; false: none is")
+    water_level_m: float | None = Field(
+        default=None, ge=-30, le=30, description="water level at or above this [m above the bathymetry datum]"
+    )
+    water_level_below_m: float | None = Field(
+        default=None, ge=-30, le=30, description="water level below this [m above the bathymetry datum]"
+    )
+    tide_trend: Literal["rising", "falling"] | None = None
+    wind_speed_m_s: float | None = Field(default=None, ge=0, le=80, description="wind speed at or above [m/s]")
+    wind_relative: list[WindRelative] | None = Field(
+        default=None, min_length=1, max_length=3, description="wind relative to the break: any of these"
+    )
+
+    @field_validator("wind_relative", mode="before")
+    @classmethod
+    def _one_or_many(cls, v: object) -> object:
+        return [v] if isinstance(v, str) else v
+
+    @model_validator(mode="after")
+    def _not_empty(self) -> RuleSpec:
+        if not self.model_dump(exclude_none=True):
+            raise ValueError("a rule needs at least one condition")
+        if (self.water_level_m is not None and self.water_level_below_m is not None
+                and self.water_level_below_m <= self.water_level_m):  # fmt: skip
+            raise ValueError("`water_level_below_m` must be above `water_level_m`, or the rule never holds")
+        return self
 
 
 class LevelSpec(BaseModel):
@@ -22,12 +63,16 @@ class LevelSpec(BaseModel):
     power_kw_m: float | None = Field(default=None, ge=0, le=10000)
     rip_likelihood: float | None = Field(default=None, ge=0, le=1, description="rip-current likelihood 0..1")
     shore_break: bool | None = Field(default=None, description="true: a shore-break reaches this level")
+    rules: list[RuleSpec] = Field(
+        default_factory=list, max_length=8, description="more ways to reach this level: any one rule that holds"
+    )
 
 
 class PolicySpec(BaseModel):
     """Levels 0..3 with the agency's own labels; thresholds on set breaker height, optionally period,
-    power, rip-current likelihood and shore-break; period and power on nearshore values unless
-    `basis` is "offshore" (docs/surfzone.md §6)."""
+    power, rip-current likelihood and shore-break, and rules on those and the water level, tide
+    trend and wind; period and power on nearshore values unless `basis` is "offshore"
+    (docs/policies.md)."""
 
     model_config = ConfigDict(extra="forbid", frozen=True)
 
@@ -70,4 +115,4 @@ class AgencyPublic(BaseModel):
     cautions: list[str] = Field(default_factory=lambda: list(HAZARD_CAUTIONS))
 
 
-__all__ = ["AgencyConfig", "AgencyPublic", "LevelSpec", "PolicySpec", "SpotPolicySpec"]
+__all__ = ["AgencyConfig", "AgencyPublic", "LevelSpec", "PolicySpec", "RuleSpec", "SpotPolicySpec"]

@@ -61,7 +61,9 @@ class Hazard(_Model):
     policy: str
     policy_is_default: bool
     rip_current_likelihood: float | None = Field(
-        default=None, description="0..1, logistic form of Dusek & Seim (2013); placeholder coefficients"
+        default=None,
+        description="0..1, logistic form of Dusek & Seim (2013) with provisional coefficients that are not the "
+        "paper's: a relative guide, not a calibrated probability (docs/surfzone.md §6)",
     )
     shore_break: bool | None = Field(
         default=None, description="breakers plunging or collapsing on a steep foreshore near high water"
@@ -279,8 +281,12 @@ class SpotHazard(_Model):
     valid_until: datetime | None
     policy: str | None = None
     policy_is_default: bool | None = None
-    rip_current_likelihood: float | None = Field(default=None, description="at the current step (0..1)")
-    max_rip_current_likelihood: float | None = Field(default=None, description="highest in the horizon")
+    rip_current_likelihood: float | None = Field(
+        default=None, description="at the current step (0..1; provisional coefficients, not the paper's: see Hazard)"
+    )
+    max_rip_current_likelihood: float | None = Field(
+        default=None, description="highest in the horizon (0..1; provisional coefficients, not the paper's)"
+    )
     shore_break: bool | None = Field(default=None, description="shore-break at the current step")
     shore_break_onset: datetime | None = Field(
         default=None, description="first step in the horizon with a shore-break (null: none)"

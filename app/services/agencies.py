@@ -23,8 +23,11 @@ def load_agency_toml(path: Path | str) -> AgencyConfig:
 
 
 def _checked(spec: PolicySpec, *, name: str, where: str) -> list[dict]:
-    data = {"name": name, "combine": spec.combine, "basis": spec.basis,
-            "levels": [lv.model_dump(exclude_none=True) for lv in spec.levels]}  # fmt: skip
+    levels = [lv.model_dump(exclude_none=True) for lv in spec.levels]
+    for lv in levels:
+        if not lv.get("rules"):
+            lv.pop("rules", None)  # stored as before when a level has no rules
+    data = {"name": name, "combine": spec.combine, "basis": spec.basis, "levels": levels}
     try:
         Policy.from_mapping(data)  # nested thresholds, level order, labels
     except InvalidInput as exc:
@@ -65,7 +68,7 @@ def add_agency(session: Session, config: AgencyConfig) -> Agency:
     if config.policy is not None:
         set_policy(session, config.id, config.policy)
     for sp in config.spot_policies:
-        set_policy(session, config.id, PolicySpec(combine=sp.combine, levels=sp.levels), spot_id=sp.spot)
+        set_policy(session, config.id, PolicySpec(combine=sp.combine, basis=sp.basis, levels=sp.levels), spot_id=sp.spot)
     return agency
 
 

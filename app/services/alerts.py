@@ -1,7 +1,9 @@
 """CAP alert lifecycle per agency and watched spot, from the agency's hazard summary.
 
 - A spot whose highest level in the horizon is at or above the agency's `alert_level` gets an Alert.
-- When that level or its onset changes, an Update referencing every earlier message of the chain.
+- When that level or its onset changes, an Update referencing every earlier message of the chain;
+  likewise when the shore-break expected (or its first step) changes, or the highest rip-current
+  likelihood ahead moves by `RIP_UPDATE_STEP` or more from the last message's (or appears or goes).
 - When it drops below, a Cancel referencing them; the chain is then closed.
 Messages are stored in the Alert table (the CAP XML as sent), so the feed and /v1/alerts serve
 exactly what was issued. Identifiers have no spaces or commas; the area is a circle around the spot
@@ -19,12 +21,16 @@ from typing import Any
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
+from app.cautions import RIP_CAUTION
 from app.db.tables import Agency, Alert, Spot, utcnow
 from app.formats.cap import CAP_NS, AlertSpec, CapReference, build_cap
 
-__all__ = ["AREA_RADIUS_KM", "EVENT", "alert_spec_of", "current_alerts", "feed_alerts", "sync_alerts"]
+__all__ = ["AREA_RADIUS_KM", "EVENT", "RIP_UPDATE_STEP", "alert_spec_of", "current_alerts", "feed_alerts", "sync_alerts"]
 
 AREA_RADIUS_KM = 2.0
+# a change of the rip likelihood this large re-issues the alert; smaller drifts from one refresh to
+# the next would flood recipients with Updates that say nothing new (our choice, not a standard)
+RIP_UPDATE_STEP = 0.1
 EVENT = "Hazardous surf"
 SEVERITY = {1: "Minor", 2: "Moderate", 3: "Severe"}
 
@@ -42,6 +48,51 @@ def _onset_of(alert: Alert) -> datetime | None:
     if el is None or not el.text:
         return None
     return datetime.fromisoformat(el.text.replace("-00:00", "+00:00"))
+
+
+def _params_of(alert: Alert) -> dict[str, str]:
+    """The `parameter` name/value pairs of a stored message ({} if it cannot be read)."""
+    try:
+        root = ET.fromstring(alert.xml)
+    except ET.ParseError:
+        return {}
+    out = {}
+    for p in root.iterfind(f"{{{CAP_NS}}}info/{{{CAP_NS}}}parameter"):
+        name, value = p.find(f"{{{CAP_NS}}}valueName"), p.find(f"{{{CAP_NS}}}value")
+        if name is not None and name.text:
+            out[name.text] = (value.text or "") if value is not None else ""
+    return out
+
+
+def _utc_z(t: datetime) -> str:
+    return t.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+
+
+def _nearshore_changed(latest: Alert, rip: float | None, shore_break_onset: datetime | None, now: datetime) -> bool:
+    """Whether the rip likelihood or the shore-break differ enough from `latest`'s to re-issue. A
+    shore-break onset already reached counts as "under way" on both sides, so an ongoing one (whose
+    first step moves with the current hour) is not re-issued every hour."""
+    params = _params_of(latest)
+    raw_sb = params.get("shoalcast_shore_break_onset")
+    try:
+        sb_then = datetime.fromisoformat(raw_sb.replace("Z", "+00:00")) if raw_sb else None
+    except ValueError:
+        sb_then = None
+
+    def state(t: datetime | None) -> str | None:
+        return None if t is None else ("under way" if t <= now else _utc_z(t))
+
+    if state(sb_then) != state(shore_break_onset):
+        return True
+    raw = params.get("shoalcast_rip_current_likelihood")
+    try:
+        rip_then = None if raw is None else float(raw)
+    except ValueError:
+        rip_then = None
+    if (rip_then is None) != (rip is None):
+        return True
+    # rounded as the message prints it, so a message is compared with what it said
+    return rip is not None and abs(round(rip, 2) - rip_then) >= RIP_UPDATE_STEP - 1e-9
 
 
 def _latest(session: Session, agency_id: str, spot_id: str) -> Alert | None:
@@ -71,10 +122,11 @@ def alert_spec_of(
     extra = ""
     if rip is not None:
         params["shoalcast_rip_current_likelihood"] = f"{rip:.2f}"
-        extra += f" Rip-current likelihood up to {rip:.0%}."
+        params["shoalcast_rip_current_model"] = "Dusek & Seim (2013) logistic form; provisional coefficients, not the paper's"
+        extra += f" Rip-current likelihood up to {rip:.0%}. {RIP_CAUTION}"
     params["shoalcast_shore_break"] = "true" if shore_break_onset is not None else "false"
     if shore_break_onset is not None:
-        params["shoalcast_shore_break_onset"] = shore_break_onset.astimezone(UTC).strftime("%Y-%m-%dT%H:%M:%SZ")
+        params["shoalcast_shore_break_onset"] = _utc_z(shore_break_onset)
         extra += " Shore-break (breakers plunging on a steep beach near high water) expected."
     urgent = onset is None or onset <= sent + timedelta(hours=1)
     return AlertSpec(
@@ -109,7 +161,8 @@ def sync_alerts(
     now: datetime | None = None, horizon_hours: float = 24.0,
 ) -> list[Alert]:
     """Issue the Alert/Update/Cancel messages the hazard summary `spots` (SpotHazard or dicts with
-    spot_id, max_level, max_label, onset, valid_until) calls for; returns the new messages."""
+    spot_id, max_level, max_label, onset, valid_until, and optionally max_rip_current_likelihood and
+    shore_break_onset) calls for; returns the new messages."""
     agency = session.get(Agency, agency_id)
     if agency is None:
         return []
@@ -124,8 +177,11 @@ def sync_alerts(
         latest = _latest(session, agency_id, spot.id)
         is_open = latest is not None and latest.msg_type in ("Alert", "Update")
         above = level is not None and level >= agency.alert_level
+        rip, sb_onset = _text(h, "max_rip_current_likelihood"), _text(h, "shore_break_onset")
         if above:
-            if is_open and latest.level == level and _onset_of(latest) == (onset.replace(microsecond=0) if onset else None):
+            if (is_open and latest.level == level
+                    and _onset_of(latest) == (onset.replace(microsecond=0) if onset else None)
+                    and not _nearshore_changed(latest, rip, sb_onset, now)):  # fmt: skip
                 continue
             msg_type = "Update" if is_open else "Alert"
             chain = _chain(session, latest) if is_open else []
@@ -142,7 +198,7 @@ def sync_alerts(
             level=int(level if level is not None else 0), label=str(_text(h, "max_label") or ""),
             onset=onset, expires=expires, references=chain,
             web=f"{base_url.rstrip('/')}/v1/alerts/{identifier}" if base_url else None,
-            rip=_text(h, "max_rip_current_likelihood"), shore_break_onset=_text(h, "shore_break_onset"),
+            rip=rip, shore_break_onset=sb_onset,
         )
         xml = build_cap(spec).decode("utf-8")
         if latest is not None:

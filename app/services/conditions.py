@@ -233,6 +233,12 @@ class SpotConditions:
     def index(self) -> dict[datetime, int]:
         return {t: i for i, t in enumerate(self.times)}
 
+    def hazard_inputs(self) -> dict[str, Any]:
+        """What a hazard policy's rules test (`models.hazard.hazard_level` keywords)."""
+        c = self.conditions
+        return dict(water_level_m=c.water_level_m, tide_trend=list(self.trend), wind_speed_m_s=c.wind_speed_m_s,
+                    wind_relative=list(self.wind_relative))  # fmt: skip
+
 
 def _next(times: NDArray[np.float64], ext_t: NDArray[np.float64], ext_v: NDArray[np.float64]) -> list[Any]:
     j = np.searchsorted(ext_t, times, side="right")

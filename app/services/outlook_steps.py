@@ -157,6 +157,7 @@ def step_dicts(
     levels = hazard_level(
         policy, set_max, period_s=haz["period_s"], power_kw_m=haz["power_kw_m"],
         rip_likelihood=haz["rip"], shore_break=haz["shore_break"],
+        **(conditions.hazard_inputs() if conditions is not None else {"water_level_m": arr.water_level}),
     )  # fmt: skip
     rip_r = nums(haz["rip"], 0.01)
     sb_l = haz["shore_break"].tolist()

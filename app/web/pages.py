@@ -27,7 +27,7 @@ from app.web.render import render
 __all__ = ["router"]
 
 router = APIRouter(include_in_schema=False)
-PAGE_VERSION = "pages-1"  # part of every page ETag: bump when a template changes what it shows
+PAGE_VERSION = "pages-2"  # part of every page ETag: bump when a template changes what it shows
 STALE_AFTER = timedelta(hours=3)
 
 

@@ -8,6 +8,8 @@ from typing import Any
 
 from jinja2 import Environment, FileSystemLoader, StrictUndefined, select_autoescape
 
+from app.cautions import RIP_CAUTION
+
 __all__ = ["STATIC_DIR", "TEMPLATE_DIR", "render"]
 
 TEMPLATE_DIR = Path(__file__).with_name("templates")
@@ -25,6 +27,7 @@ def environment() -> Environment:
         lstrip_blocks=True,
     )
     env.globals["asset_version"] = ASSET_VERSION
+    env.globals["rip_caution"] = RIP_CAUTION  # beside every rip-current likelihood shown
     return env
 
 

@@ -305,6 +305,23 @@ def outlook_view(body: Mapping[str, Any], *, timezone: str | None, prefs: Prefs,
     }
 
 
+def percent(p: Any) -> str:
+    """A likelihood 0..1 as whole percent ('–' when there is none)."""
+    return "–" if p is None else f"{round(float(p) * 100):d} %"
+
+
+def shore_break_text(now: Any, onset: Any, zone: Any = None) -> str:
+    """'now', 'from <time UTC>' (and spot time), 'none ahead', or '–' without an outlook."""
+    if now is None and onset is None:
+        return "–"
+    if now:
+        return "now"
+    if onset:
+        text = "from " + when(onset, None, fmt="%a %d %H:%M UTC")
+        return text + (f", {when(onset, zone, fmt='%H:%M')} {zone_label(zone, _time(onset))}" if zone else "")
+    return "none ahead"
+
+
 def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dict[str, Any]]:
     """An agency's hazard summary (JSON-mode dict) as rows; onsets in each spot's zone and in UTC."""
     out = []
@@ -312,6 +329,7 @@ def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dic
         zone, _ = spot_zone(zones.get(s.get("spot_id", ""), "UTC"))
         local = str(zone.key) not in ("UTC", "Etc/UTC")
         onset = s.get("onset")
+        sb_onset = s.get("shore_break_onset")
         out.append({
             "spot_id": s.get("spot_id"),
             "name": s.get("name"),
@@ -321,6 +339,9 @@ def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dic
             "onset_local": (when(onset, zone, fmt="%a %d %H:%M ") + zone_label(zone, _time(onset) or datetime.now(UTC)))
             if onset and local else None,
             "valid_until": when(s.get("valid_until"), None, fmt="%H:%M UTC") if s.get("valid_until") else "–",
+            "rip_now": percent(s.get("rip_current_likelihood")),
+            "rip_max": percent(s.get("max_rip_current_likelihood")),
+            "shore_break": shore_break_text(s.get("shore_break"), sb_onset, zone if local else None),
             "note": s.get("note"),
             "policy": s.get("policy"),
             "policy_is_default": s.get("policy_is_default"),

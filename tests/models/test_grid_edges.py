@@ -107,3 +107,91 @@ def test_continued_fraction_roundtrips_and_defaults_to_zero(short_table):
     old = TransferTable.from_arrays({k: v for k, v in d.items() if k != "continued_fraction"})
     assert old.continued_fraction.shape == short_table.coefficient.shape
     assert not old.continued_fraction.any()
+
+
+# --------------------------------------------------------------------------- noisy and land edges
+# The contours beyond an edge come from a plane fitted over a km-long strip (models.edges), not
+# from the gradient at the exit cell: survey noise on the last cells must not move K.
+
+
+def noisy_short_beach(sigma=0.1, band=100.0, seed=12):
+    # the short beach with independent Gaussian noise of `sigma` [m] (0.5 % of the edge depth; an
+    # echo-sounder survey's own scatter is of this order, common practice) on its last `band` metres
+    g = short_beach()
+    d = np.array(g.depth)
+    near = g.x >= g.x[-1] - band
+    d[:, near] += sigma * np.random.default_rng(seed).standard_normal((d.shape[0], int(near.sum())))
+    return DepthGrid(d, g.x0, g.y0, g.dx, g.dy)
+
+
+@pytest.fixture(scope="module")
+def noisy_table():
+    # default smoothing (two cells), as a spot's table is built; the exit-cell gradient of this
+    # grid turns by up to ~10° from cell to cell, which moved K by up to 23 % (engine 4)
+    return build_table(noisy_short_beach(), 200.0, 0.0, periods_s=PERIODS)
+
+
+@pytest.mark.parametrize("p", range(len(PERIODS)))
+def test_noise_near_the_edge_leaves_deep_water_snell(noisy_table, p):
+    # Snell + shoaling over straight contours (Dean & Dalrymple 1991 ch. 4; SPM 1984 §2-III) for
+    # 0-60° off the normal, within 3 % although the last 100 m of the grid are noisy
+    t = noisy_table
+    for angle in ANGLES:
+        k = int(round((90.0 + angle) / 2.0))
+        K, _ = snell_shoaling(PERIODS[p], t.reference_depth_m, angle)
+        assert t.coefficient[p, k] == pytest.approx(K, rel=0.03), angle
+        assert t.continued_fraction[p, k] == pytest.approx(1.0)
+
+
+def flat_floor_with_coast(sigma=0.1, seed=3):
+    # a flat 25 m floor (noisy by `sigma` m) west of a straight north-south coast at x = -500 m
+    # (1:20 shelving face); the grid's north, south and west edges are open ocean, its east edge
+    # land. The coast reaches the north and south edges, so beyond them it goes on north-south.
+    dx = 50.0
+    x = np.arange(-3000.0, 0.0 + dx / 2, dx)
+    y = np.arange(-3000.0, 3000.0 + dx / 2, dx)
+    X = np.broadcast_to(x[None, :], (y.size, x.size))
+    h = np.clip((-500.0 - X) / 20.0, -5.0, 25.0)
+    h = np.where(h > 20.0, h + sigma * np.random.default_rng(seed).standard_normal(h.shape), h)
+    return DepthGrid(h, x[0], y[0], dx, dx)
+
+
+def test_continued_directions_over_land_stay_closed():
+    # At (-1500, 2000), 25 m deep, 1 km off the coast and 1 km from the north edge. A ray traced
+    # back toward the north-north-east leaves the flat north edge in 25 m and would reach deep
+    # water (engine 4 opened those directions, K up to 0.9, over the exit cell's noisy gradient),
+    # but drawn from its exit point its deep-water direction crosses the coast continued north: the
+    # swell would have come over land. Swell from the whole sea side (west half) still arrives.
+    g = flat_floor_with_coast()
+    t = build_table(g, -1500.0, 2000.0, periods_s=[12.0])
+    assert t.meta["open_edges"] == ["south", "north", "west"]
+    d = t.directions_deg
+    land = (d > 1.0) & (d < 179.0)
+    assert np.all(t.coefficient[0, land] == 0.0)
+    sea = (d > 200.0) & (d < 340.0)
+    assert np.all(t.coefficient[0, sea] > 0.5)
+
+
+def test_continued_beam_never_narrower_than_at_the_edge():
+    # Snell over straight contours only spreads a beam: dθ0/dθe = (C0/Ce)·cos αe / cos α0 > 1
+    # (Kr = sqrt(cos θ0 / cos θ) < 1: Dean & Dalrymple 1991 ch. 4). Two continued rays whose
+    # deep-water directions lie closer together than their exit directions (contour normals that
+    # differ between them) are spread over the exit interval instead: K² ≤ the edge's value.
+    from models.rays import OPEN
+    from models.transfer import _map_period
+
+    st = np.array([OPEN, OPEN, 1])  # a pair, then a blocked ray closing the cycle
+    d_off = np.array([100.0, 100.5, 0.0])  # deep-water FROM directions: 0.5° apart
+    d_exit = np.array([95.0, 99.0, 0.0])  # exit directions: 4° apart
+    ones = np.ones(3)
+    args = (st, d_off, np.array([10.0, 20.0, 30.0]), ones, ones, ones)
+    gap = np.array([10.0, 10.0, 340.0])
+    cont = np.array([1.0, 1.0, 0.0])
+    acc, _ = _map_period(*args, cont, gap, 1.0, 180, 2.0, 10.0, d_exit)
+    # 10° of launch measure spread over 4° (98.25-102.25°): 2.5 per degree, never 20 (over 0.5°)
+    e = acc[:, 0]
+    assert e.sum() == pytest.approx(10.0)
+    assert e.max() / 2.0 <= 2.5 + 1e-9
+    # not continued: the interval is the deep-water one (refraction on the grid is data)
+    acc2, _ = _map_period(*args, np.zeros(3), gap, 1.0, 180, 2.0, 10.0, d_exit)
+    assert acc2[:, 0].max() == pytest.approx(10.0)

@@ -209,3 +209,99 @@ def test_policy_with_rip_and_shore_break_levels():
             {"level": 2, "label": "c", "set_height_m": 2}, {"level": 3, "label": "d", "set_height_m": 3}]})  # fmt: skip
     with pytest.raises(InvalidInput, match="basis"):
         HazardPolicy(name="x", levels=p.levels, basis="somewhere")
+
+
+# --------------------------------------------------------------------------- rules on nearshore inputs
+
+
+def _rule_policy(level2_rules, **kw):  # type: ignore[no-untyped-def]
+    return HazardPolicy.from_mapping({"name": "lifeguards", "levels": [
+        {"level": 0, "label": "green"},
+        {"level": 1, "label": "yellow", "set_height_m": 1.0},
+        {"level": 2, "label": "red", "rules": level2_rules, **kw},
+        {"level": 3, "label": "closed", "set_height_m": 3.0},
+    ]})  # fmt: skip
+
+
+def test_a_rip_rule_reaches_its_level_from_its_threshold_on():
+    p = _rule_policy([{"rip_likelihood": 0.5}])
+    lv = hazard_level(p, [0.5, 0.5, 1.2, 3.1], rip_likelihood=[np.nextafter(0.5, 0), 0.5, 0.9, 0.9])
+    assert lv.tolist() == [0, 2, 2, 3]  # a rule only adds ways up: the higher level still wins
+    assert hazard_level(p, [0.5]).tolist() == [0]  # no rip likelihood given: the rule cannot hold
+
+
+def test_a_rule_needs_every_condition_shore_break_and_high_water():
+    p = _rule_policy([{"shore_break": True, "water_level_m": 1.5}])
+    lv = hazard_level(p, 0.5, shore_break=[True, True, False, True], water_level_m=[1.5, 1.49, 2.0, np.nan])
+    assert lv.tolist() == [2, 0, 0, 0]  # NaN: the level is unknown there, so the rule does not hold
+    assert hazard_level(p, [0.5], shore_break=[True]).tolist() == [0]  # no water level given
+
+
+def test_an_onshore_wind_rule_and_missing_wind():
+    p = _rule_policy([{"wind_relative": "onshore", "wind_speed_m_s": 10.0}])
+    speed = [10.0, np.nextafter(10.0, 0), 14.0, 14.0, np.nan]
+    rel = ["onshore", "onshore", "offshore", "cross", None]  # the last step has no wind source
+    assert hazard_level(p, 0.5, wind_speed_m_s=speed, wind_relative=rel).tolist() == [2, 0, 0, 0, 0]
+    many = _rule_policy([{"wind_relative": ["onshore", "cross"], "wind_speed_m_s": 10.0}])
+    assert hazard_level(many, 0.5, wind_speed_m_s=speed, wind_relative=rel).tolist() == [2, 0, 0, 2, 0]
+    assert hazard_level(p, [0.5, 0.5]).tolist() == [0, 0]  # no wind at all: null wind never triggers
+
+
+def test_tide_trend_and_low_water_rules_are_alternatives():
+    p = _rule_policy([{"tide_trend": "falling", "water_level_below_m": 0.3, "set_height_m": 0.8},
+                      {"rip_likelihood": 0.7}])  # fmt: skip
+    lv = hazard_level(
+        p, [0.9, 0.9, 0.9, 0.7, 0.5], rip_likelihood=[0.0, 0.0, 0.0, 0.0, 0.8],
+        water_level_m=[0.2, 0.3, 0.2, 0.2, 2.0], tide_trend=["falling", "falling", "rising", "falling", None],
+    )  # fmt: skip
+    assert lv.tolist() == [2, 0, 0, 0, 2]  # below is strict; the second rule holds alone
+
+
+def test_a_level_with_only_rules_and_the_flat_criteria_beside_them():
+    p = _rule_policy([{"rip_likelihood": 0.5}], set_height_m=2.0)
+    assert hazard_level(p, [2.0, 1.5], rip_likelihood=[0.0, 0.6]).tolist() == [2, 2]
+    q = _rule_policy([{"rip_likelihood": 0.5}], set_height_m=2.0, period_s=15.0)
+    q = HazardPolicy.from_mapping(dict(q.to_mapping(), combine="all"))
+    lv = hazard_level(q, [2.0, 2.0, 0.5], period_s=[10.0, 15.0, 10.0], rip_likelihood=[0.0, 0.0, 0.6])
+    assert lv.tolist() == [1, 2, 2]  # "all" joins the flat criteria; a rule stays an alternative
+
+
+def test_rule_policies_round_trip_and_keep_the_old_form_without_rules():
+    p = _rule_policy([{"wind_relative": ["onshore"], "wind_speed_m_s": 9.0}, {"tide_trend": "rising"}])
+    assert HazardPolicy.from_mapping(p.to_mapping()) == p
+    assert "rules" not in _policy().to_mapping()["levels"][1]  # unchanged cache keys for rule-free policies
+    assert p.levels[2].rules[0].wind_relative == ("onshore",)
+
+
+@pytest.mark.parametrize(
+    ("rule", "message"),
+    [
+        ({}, r"levels\[2\]\.rules\[0\]` has no conditions"),
+        ({"wind": 3}, r"levels\[2\]\.rules\[0\]` has unknown keys \['wind'\]"),
+        ({"wind_relative": "landward"}, r"rules\[0\]\.wind_relative` must be among.*'landward'"),
+        ({"wind_relative": []}, r"rules\[0\]\.wind_relative` must list at least one"),
+        ({"tide_trend": "ebb"}, r"rules\[0\]\.tide_trend` must be 'rising' or 'falling'"),
+        ({"rip_likelihood": 1.2}, r"rules\[0\]\.rip_likelihood` is a probability"),
+        ({"wind_speed_m_s": -1.0}, r"rules\[0\]\.wind_speed_m_s` must be finite and >= 0"),
+        ({"water_level_m": "high"}, r"rules\[0\]\.water_level_m` must be a number"),
+        ({"water_level_m": 1.0, "water_level_below_m": 0.5}, r"water_level_below_m.*never holds"),
+        ({"shore_break": "yes"}, r"rules\[0\]\.shore_break` must be true or false"),
+    ],
+)
+def test_bad_rules_are_refused_naming_the_field(rule, message):
+    with pytest.raises(InvalidInput, match=message):
+        _rule_policy([rule])
+
+
+def test_rule_validation_at_level_0_and_bad_inputs_are_named():
+    with pytest.raises(InvalidInput, match=r"levels\[0\]\.rules`: level 0 takes no rules"):
+        HazardPolicy.from_mapping({"name": "x", "levels": [
+            {"label": "a", "rules": [{"rip_likelihood": 0.5}]}, {"label": "b", "set_height_m": 1},
+            {"label": "c", "set_height_m": 2}, {"label": "d", "set_height_m": 3}]})  # fmt: skip
+    p = _rule_policy([{"tide_trend": "rising"}])
+    with pytest.raises(InvalidInput, match=r"`tide_trend` must be one of.*'up' at index 1"):
+        hazard_level(p, [0.5, 0.5], tide_trend=["rising", "up"])
+    with pytest.raises(InvalidInput, match=r"`wind_speed_m_s` must be finite and >= 0.*index \(0,\)"):
+        hazard_level(p, [0.5], wind_speed_m_s=[-2.0])
+    with pytest.raises(InvalidInput, match="do not broadcast"):
+        hazard_level(p, [0.5, 0.5], water_level_m=[1.0, 2.0, 3.0])

@@ -144,3 +144,69 @@ def test_hazards_and_cap_alerts_carry_rip_likelihood_and_shore_break(migrated_db
     assert "<valueName>shoalcast_shore_break</valueName><value>false</value>" in xml
     assert validate_cap(xml) == []
     json.dumps(result.model_dump(mode="json"), allow_nan=False)
+
+
+def test_cap_updates_when_only_the_rip_likelihood_or_shore_break_changes(migrated_db: str) -> None:
+    # CAP 1.2 (OASIS 2010) §3.2.1 msgType "Update": updates and supercedes the earlier message(s)
+    # in references; the step that re-issues for the rip likelihood is ours (RIP_UPDATE_STEP)
+    from app.cautions import RIP_CAUTION
+    from app.formats.cap import validate_cap
+    from app.services.alerts import RIP_UPDATE_STEP, sync_alerts
+
+    t0 = T0
+    onset = t0 + timedelta(hours=3)
+
+    def hz(rip, sb=None):  # type: ignore[no-untyped-def]
+        return [{"spot_id": "beach-h", "max_level": 2, "max_label": "danger", "onset": onset,
+                 "valid_until": t0 + timedelta(hours=12), "max_rip_current_likelihood": rip,
+                 "shore_break_onset": sb}]  # fmt: skip
+
+    def sync(spots, hours):  # type: ignore[no-untyped-def]
+        return sync_alerts(s, "guards", spots, sender="tests@shoalcast", now=t0 + timedelta(hours=hours))
+
+    with session_scope(migrated_db) as s:
+        _setup(s, [0.5])
+        [first] = sync(hz(0.42), 0)
+        assert sync(hz(0.42 + RIP_UPDATE_STEP / 2), 0.25) == []  # a small drift says nothing new
+        [u1] = sync(hz(0.42 + RIP_UPDATE_STEP), 0.5)  # rip likelihood alone moved enough
+        sb = t0 + timedelta(hours=2)
+        [u2] = sync(hz(0.52, sb), 1)  # a shore-break now expected
+        assert sync(hz(0.52, sb), 1.5) == []
+        assert sync(hz(0.52, t0 + timedelta(hours=3)), 3) == []  # under way: its first step moves with the hour
+        [u3] = sync(hz(0.52, None), 4)  # the shore-break is over
+        [u4] = sync(hz(None, None), 4.5)  # no likelihood any more (e.g. nothing arrives)
+        msgs = [first, u1, u2, u3, u4]
+        assert [m.msg_type for m in msgs] == ["Alert", "Update", "Update", "Update", "Update"]
+        assert u4.references == [m.id for m in msgs[:4]]
+        assert all(validate_cap(m.xml) == [] for m in msgs)
+    import xml.etree.ElementTree as ET
+
+    from app.formats.cap import CAP_NS
+
+    description = ET.fromstring(first.xml).findtext(f"{{{CAP_NS}}}info/{{{CAP_NS}}}description")
+    assert RIP_CAUTION in description and "provisional coefficients" in description
+    assert "<valueName>shoalcast_shore_break</valueName><value>true</value>" in u2.xml
+    assert "shoalcast_rip_current_likelihood" not in u4.xml
+
+
+def test_hazards_cli_shows_rip_likelihood_shore_break_and_the_cautions(
+    migrated_db: str, monkeypatch: pytest.MonkeyPatch, capsys: pytest.CaptureFixture[str]
+) -> None:
+    from app.cautions import RIP_CAUTION
+    from app.cli import main
+
+    hs = [0.4, 0.8, 1.6, 2.2, 1.6, 0.8]
+    now = T0 + timedelta(minutes=30)
+    with session_scope(migrated_db) as s:
+        _setup(s, hs)
+        want = {x.spot_id: x for x in hazards.agency_hazards(s, "guards", horizon_hours=6, now=now).spots}
+    monkeypatch.setattr(hazards, "utcnow", lambda: now)
+    assert main(["hazards", "guards", "--horizon", "6"]) == 0
+    out = capsys.readouterr().out
+    header = next(line for line in out.splitlines() if line.startswith("spot"))
+    assert "rip now / max" in header and "shore-break" in header
+    row = next(line for line in out.splitlines() if line.startswith("beach-h "))
+    h = want["beach-h"]
+    assert f"{round(h.rip_current_likelihood * 100)}% / {round(h.max_rip_current_likelihood * 100)}%" in row
+    assert "none ahead" in row  # a 1:50 foreshore: no shore-break
+    assert f"! {RIP_CAUTION}" in out and "local rules" in out  # the cautions beside the levels

@@ -88,3 +88,39 @@ def test_cautions_are_always_there_and_the_default_policy_says_so() -> None:
     out = steps_mod.cautions_for(DEFAULT_POLICY)
     assert CAUTION in out and any("lifeguards" in c for c in out) and any("Guidance only" in c for c in out)
     assert any("default policy" in c for c in out)
+
+
+def test_policy_rules_see_the_steps_water_level_tide_and_wind() -> None:
+    # a rule on the step's wind and water level (models/hazard.py): onshore wind of 10 m/s or more
+    # is level 3; a rising tide still below 0 m is level 2. Onshore = from within 45° of the facing
+    # (common practice): this break faces 270.
+    from app.services import conditions as cond
+    from models.hazard import HazardPolicy
+    from models.tide import Constituent
+
+    b, pts, arr = _setup(hs=(0.6, 0.6, 0.6), n_points=1)
+    empty = cond.Series(np.empty(0), np.empty(0))
+    ft = np.array([t.timestamp() for t in b.times])
+    # model-forecast wind as velocity components (toward): 12 m/s toward the east, from the west
+    fc = (cond.Series(ft, np.full(3, 12.0)), cond.Series(ft, np.zeros(3)), cond.Series(ft, np.array([12.0, 9.0, 12.0])))
+    ci = cond.ConditionInputs(
+        faces_deg=270.0, mean_level_m=0.0, constituents=(Constituent("M2", 1.0, 0.0),), level_observed=empty,
+        wind_observed=(empty, empty, empty), wind_forecast=fc, wind_sources=("m",), level_sources=(),
+        observation_ids=(),
+    )  # fmt: skip
+    sc = cond.spot_conditions(ci, b.times)
+    arr = compute_spots(b, [pts], water_level_m=sc.conditions.water_level_m)[0]
+    policy = HazardPolicy.from_mapping({"name": "guards", "levels": [
+        {"label": "green"}, {"label": "yellow", "set_height_m": 1.0},
+        {"label": "red", "set_height_m": 2.0, "rules": [{"tide_trend": "rising", "water_level_below_m": 0.0}]},
+        {"label": "closed", "set_height_m": 3.0, "rules": [{"wind_relative": "onshore", "wind_speed_m_s": 10.0}]},
+    ]})  # fmt: skip
+    built = steps_mod.build_steps(b, pts, arr, policy, "metric", sc)
+    rising_low = [tr == "rising" and wl < 0.0 for tr, wl in zip(sc.trend, sc.conditions.water_level_m, strict=True)]
+    by_height = [s.hazard.level for s in steps_mod.build_steps(b, pts, arr, policy, "metric")]  # no conditions
+    assert max(by_height) < 2
+    expect = [3 if w >= 10.0 else (2 if f else h)
+              for w, f, h in zip(sc.conditions.wind_speed_m_s, rising_low, by_height, strict=True)]  # fmt: skip
+    assert [s.hazard.level for s in built] == expect
+    assert [s.wind.relative for s in built] == ["onshore"] * 3
+    assert expect == [3, 2, 3]  # 9 m/s at the middle step: below the wind rule; the tide rule holds there
