@@ -14,6 +14,11 @@ swell train with its own Hm0 and peak period, is shoaled and refracted from the 
 (+ water level) over the local contours (slope and seaward normal at the break point) to breaking
 by `models.breaking.shoal_to_breaking` (Weggel 1972; Komar & Gaudiano 1975 reported beside it).
 All (spot, point, step, class) values of a call go through one `shoal_to_breaking`.
+
+Wind (optional, per step): the breaker type of every class takes the wind's onshore component at
+each point (`models.breaking.breaker_type_in_wind`, the direction of Douglass 1990 with a shift of
+our own size); heights, depths and the Iribarren number are the still-air ones. Without wind
+(NaN) the type is exactly the still-air one.
 """
 
 from __future__ import annotations
@@ -26,7 +31,15 @@ import numpy as np
 from numpy.typing import NDArray
 
 from models import surfzone
-from models.breaking import breaker_type, iribarren, komar_gaudiano, shoal_to_breaking
+from models.breaking import (
+    breaker_type,
+    breaker_type_in_wind,
+    iribarren,
+    komar_gaudiano,
+    shoal_to_breaking,
+    wind_spilling_limit,
+)
+from models.conditions import onshore_wind_component
 from models.directions import wrap_180
 from models.errors import InvalidInput
 from models.nearshore import Nearshore, nearshore_many
@@ -79,6 +92,11 @@ class SpotArrays:
     break_distance: NDArray[np.float64] | None = None  # breaking position from the reference point [m]
     foreshore_slope: NDArray[np.float64] | None = None  # tan β about the still-water line
     method: tuple[str, ...] = ()  # per point: "surf-zone" | "single-wave"
+    # wind on the breaker type (None without wind input): (P, T) onshore component [m/s] (NaN: no
+    # wind), the spilling/plunging boundary on ξb used, and the still-air types (P, T, 3 + K)
+    wind_onshore_m_s: NDArray[np.float64] | None = None
+    spilling_limit: NDArray[np.float64] | None = None
+    breaker_type_still: NDArray[np.str_] | None = None
 
 
 _LARGEST: dict[float, float] = {}
@@ -108,9 +126,13 @@ def compute_spots(
     *,
     water_level_m: float | NDArray[np.float64] = 0.0,
     use_profiles: bool = True,
+    wind_speed_m_s: NDArray[np.float64] | None = None,
+    wind_from_deg: NDArray[np.float64] | None = None,
 ) -> list[SpotArrays]:
     """Nearshore spectra per point and breaking of every class, for many spots at once.
-    `water_level_m` (T,) above the bathymetry datum: every depth is bed + water level."""
+    `water_level_m` (T,) above the bathymetry datum: every depth is bed + water level.
+    `wind_speed_m_s`, `wind_from_deg`: (T,) for every spot or (S, T) per spot, NaN where there is
+    no wind; they move the breaker type only (module docstring)."""
     nt = len(batch.times)
     wl = np.broadcast_to(np.asarray(water_level_m, dtype=float), (nt,)).copy()
     if not np.all(np.isfinite(wl)):
@@ -199,7 +221,35 @@ def compute_spots(
     cases = [(s, i) for s, zs in enumerate(zone) for i, z in enumerate(zs) if z]
     if cases:
         _surf_zone(spots, results, cases, wl, K)
+    if wind_speed_m_s is not None or wind_from_deg is not None:
+        _wind_types(spots, results, wind_speed_m_s, wind_from_deg, nt)
     return results
+
+
+def _wind_types(
+    spots: Sequence[Sequence[PointSetup]], results: list[SpotArrays], speed: object, from_deg: object, nt: int
+) -> None:
+    """Breaker types with the wind (`breaker_type_in_wind`), the still-air ones kept beside them."""
+    if speed is None or from_deg is None:
+        raise InvalidInput("`wind_speed_m_s` and `wind_from_deg` go together (NaN where there is no wind)")
+    try:
+        u_all = np.broadcast_to(np.asarray(speed, dtype=float), (len(spots), nt))
+        d_all = np.broadcast_to(np.asarray(from_deg, dtype=float), (len(spots), nt))
+    except ValueError:
+        raise InvalidInput(f"the wind must have shape ({nt},) or ({len(spots)}, {nt})") from None
+    if np.any(np.isinf(u_all) | (u_all < 0)):
+        raise InvalidInput("`wind_speed_m_s` must be >= 0 and finite (NaN: no wind)")
+    for pts, a, u, d in zip(spots, results, u_all, d_all, strict=True):
+        normal = np.array([p.normal_deg for p in pts], dtype=float)[:, None]  # (P, 1)
+        on = onshore_wind_component(u[None, :], d[None, :], normal)  # (P, T), NaN without wind
+        on = np.where(np.isfinite(u)[None, :], on, np.nan)
+        a.wind_onshore_m_s = on
+        a.spilling_limit = np.where(np.isfinite(on), wind_spilling_limit(on), np.nan)
+        a.breaker_type_still = a.breaker_type.copy()
+        fin = np.isfinite(a.iribarren) & np.isfinite(on)[:, :, None]
+        if fin.any():
+            u3 = np.broadcast_to(on[:, :, None], a.iribarren.shape)
+            a.breaker_type[fin] = breaker_type_in_wind(a.iribarren[fin], u3[fin])
 
 
 FORESHORE_BAND_M = 1.0  # foreshore slope over total depths -1 .. +1 m about the still-water line

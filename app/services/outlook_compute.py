@@ -22,7 +22,7 @@ from app.services.outlook_inputs import WaterLevel
 from app.services.outlook_steps import cautions_for
 from models.surf import compute_spots
 
-OUTLOOK_VERSION = "outlook-5"  # part of every cache key: bump when the computation changes (5: surf-zone model, tide and wind)
+OUTLOOK_VERSION = "outlook-6"  # part of every cache key: bump when the computation changes (5: surf-zone model, tide and wind; 6: wind on the breaker type)
 
 
 def compute_outlook(
@@ -60,7 +60,9 @@ def compute_outlook(
     for batch in inputs.select_inputs(found):
         given = None if water_level_m is None else inputs.water_level_at(water_level_m, batch.times)
         sc = cond.spot_conditions(ci, batch.times, given=given)
-        arr = compute_spots(batch, [points], water_level_m=sc.conditions.water_level_m)[0]
+        c = sc.conditions
+        arr = compute_spots(batch, [points], water_level_m=c.water_level_m, wind_speed_m_s=c.wind_speed_m_s,
+                            wind_from_deg=c.wind_from_deg)[0]  # fmt: skip
         steps.extend(steps_with_calibration(batch, points, arr, policy, units, cal, conditions=sc))
     steps.sort(key=lambda s: s.time)
     return OutlookBody(

@@ -168,6 +168,7 @@ def step_dicts(
     bdepth = nums(arr.db[ip, tt, 1])
     xi = nums(arr.iribarren[ip, tt, 1], 0.01)
     btype = arr.breaker_type[ip, tt, 1].tolist()
+    wind_fx = wind_effects(arr, ip, tt)
     off_h, off_tp, off_dir, off_pw, offshore_swells = offshore_parts(batch, units)
     labels = {lv: policy.label(lv) for lv in set(levels.tolist())}
     # per point details (T, P) and per train values at the step's point (T, K)
@@ -243,6 +244,7 @@ def step_dicts(
                 breaker_type=(btype[t] or None) if ok else None,
                 breaking_depth_m=bdepth[t],
                 iribarren=xi[t],
+                wind_effect=wind_fx[t] if ok else None,
                 largest_point=names[ip[t]] if ok else None,
                 surf_zone=zone.step(t),
                 peel=peel,
@@ -257,6 +259,22 @@ def step_dicts(
             )  # fmt: skip
         )
     return steps
+
+
+WIND_METHOD = ("Douglass (1990): onshore wind breaks earlier and spills, offshore wind holds waves up and "
+               "plunges; the size of the shift is shoalcast's, not the paper's")
+
+
+def wind_effects(arr: SpotArrays, ip: np.ndarray, tt: np.ndarray) -> list[dict[str, Any] | None]:
+    """Per step at its point: the wind's onshore component, the breaker-type boundary it gave and
+    the still-air type (`models.surf`); None without wind."""
+    if arr.wind_onshore_m_s is None or arr.spilling_limit is None or arr.breaker_type_still is None:
+        return [None] * tt.size
+    on, lim = nums(arr.wind_onshore_m_s[ip, tt]), nums(arr.spilling_limit[ip, tt], 0.01)
+    still = arr.breaker_type_still[ip, tt, 1].tolist()
+    return [None if o is None else dict(method=WIND_METHOD, onshore_component_m_s=o, spilling_below_iribarren=q,
+                                        breaker_type_without_wind=s or None)
+            for o, q, s in zip(on, lim, still, strict=True)]  # fmt: skip
 
 
 def hazard_inputs(

@@ -251,7 +251,7 @@ def outlook_view(body: Mapping[str, Any], *, timezone: str | None, prefs: Prefs,
             "period": _fmt(s.get("period_s"), 0, "s"),
             "direction": compass(s.get("nearshore_direction_deg")),
             "peel": _peel(s.get("peel")),
-            "breaker_type": s.get("breaker_type") or "–",
+            "breaker_type": breaker_text(s.get("breaker_type"), s.get("wind_effect")),
             "input": str(s.get("input") or ""),
             "water": _water(s, prefs.units),
             "wind": _wind(s, prefs.units),
@@ -303,6 +303,14 @@ def outlook_view(body: Mapping[str, Any], *, timezone: str | None, prefs: Prefs,
         "computed_at": when(body.get("computed_at"), None, fmt="%Y-%m-%d %H:%M UTC"),
         "break_points": list(body.get("break_points", [])),
     }
+
+
+def breaker_text(kind: Any, wind_effect: Any) -> str:
+    """The breaker type, marked "(wind)" where the wind changed it from the still-air one."""
+    if not kind:
+        return "–"
+    still = wind_effect.get("breaker_type_without_wind") if isinstance(wind_effect, Mapping) else None
+    return f"{kind} (wind)" if still and still != kind else str(kind)
 
 
 def percent(p: Any) -> str:

@@ -88,3 +88,33 @@ def test_nothing_arriving_is_nan_not_zero_and_oblique_waves_break_at_an_angle() 
 def test_a_non_finite_water_level_is_refused() -> None:
     with pytest.raises(InvalidInput, match="water_level_m"):
         compute_spots(_batch(), [[_point()]], water_level_m=np.array([0.0, np.nan]))
+
+
+def test_wind_moves_only_the_breaker_type_in_douglass_direction() -> None:
+    # Douglass (1990): onshore wind spills, offshore wind plunges (direction tested; the size is ours,
+    # models/breaking.py); heights and depths stay the still-air ones; no wind -> exactly as before
+    rank = {"": -1, "spilling": 0, "plunging": 1, "collapsing": 2}
+    b = _batch(hs=0.8, tp=9.0, nt=4)
+    # slopes putting ξb near the still-air spilling/plunging boundary 0.4 (Battjes 1974)
+    pts = [PointSetup(n, 0.0, y, tb.table(), 2.0, m, 270.0) for n, y, m in (("a", 0.0, 0.03), ("b", 300.0, 0.045))]
+    still = compute_spots(b, [pts])[0]
+    # west-facing beach (270): wind from 270 onshore, from 90 offshore; NaN: no wind at that step
+    speed, frm = np.array([12.0, 12.0, np.nan, 6.0]), np.array([270.0, 90.0, 270.0, 0.0])
+    windy = compute_spots(b, [pts], wind_speed_m_s=speed, wind_from_deg=frm)[0]
+    for name in ("hb", "db", "iribarren", "kg"):
+        np.testing.assert_array_equal(getattr(windy, name), getattr(still, name))
+    np.testing.assert_array_equal(windy.breaker_type_still, still.breaker_type)
+    r = np.vectorize(rank.get)
+    assert np.all(r(windy.breaker_type[:, 0]) <= r(still.breaker_type[:, 0]))  # onshore
+    assert np.all(r(windy.breaker_type[:, 1]) >= r(still.breaker_type[:, 1]))  # offshore
+    np.testing.assert_array_equal(windy.breaker_type[:, 2], still.breaker_type[:, 2])  # no wind
+    assert (windy.breaker_type[:, 0] != still.breaker_type[:, 0]).any()  # some plunging class now spills
+    assert (windy.breaker_type[:, 1] != still.breaker_type[:, 1]).any()  # some spilling class now plunges
+    np.testing.assert_allclose(windy.wind_onshore_m_s[:, :2], [[12.0, -12.0]] * 2, atol=1e-9)
+    assert abs(windy.wind_onshore_m_s[0, 3]) < 1e-9  # from the north: along the shore, no shift
+    assert np.isnan(windy.wind_onshore_m_s[:, 2]).all() and np.isnan(windy.spilling_limit[:, 2]).all()
+    assert still.wind_onshore_m_s is None and still.breaker_type_still is None
+    with pytest.raises(InvalidInput, match="go together"):
+        compute_spots(b, [pts], wind_speed_m_s=speed)
+    with pytest.raises(InvalidInput, match="shape"):
+        compute_spots(b, [pts], wind_speed_m_s=speed[:2], wind_from_deg=frm[:2])

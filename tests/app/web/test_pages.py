@@ -172,3 +172,11 @@ def test_shore_break_text_now_ahead_none_and_no_outlook() -> None:
     assert shore_break_text(False, None) == "none ahead"
     assert shore_break_text(None, None) == "–"
     assert (percent(0.354), percent(None)) == ("35 %", "–")
+
+
+def test_a_breaker_type_the_wind_moved_is_marked() -> None:
+    from app.web.views import breaker_text
+
+    assert breaker_text("spilling", {"breaker_type_without_wind": "plunging"}) == "spilling (wind)"
+    assert breaker_text("plunging", {"breaker_type_without_wind": "plunging"}) == "plunging"
+    assert breaker_text("plunging", None) == "plunging" and breaker_text(None, None) == "–"
