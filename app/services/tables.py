@@ -184,9 +184,9 @@ def build_tables(
         opts = {k: v for k, v in ok[0].options.items() if k not in ("reference_depth_m", "break_x", "break_y", "method")}
         t_spot = time.perf_counter()
         try:
-            if ok[0].options.get("method") == refdif.METHOD:  # the local grid only (regional grids: rays)
+            if ok[0].options.get("method") == refdif.METHOD:  # regional grids: in its rays and start lines
                 tables = refdif.build_tables(
-                    grid, refs, executor=executor,
+                    grid, refs, executor=executor, regional=regional,
                     progress=(lambda done, total, what, _l=label: progress(f"{_l} {what}", done, total)) if progress else None,
                     **opts,
                 )  # fmt: skip
