@@ -27,6 +27,7 @@ from app.db.session import session_scope
 from app.db.tables import BreakPoint, Spot, TransferTableRow, utcnow
 from app.errors import BadInput, NotFound
 from app.observability import TABLE_BUILDS
+from app.runtime import limit_blas_threads
 from app.services.spots import depth_grid_of, regional_grids_of
 from models import refdif, transfer
 from models.errors import InvalidInput
@@ -135,7 +136,7 @@ def executor_for(workers: int | None = None, dask_address: str | None = None) ->
     if n <= 1:
         yield None
         return
-    with ProcessPoolExecutor(max_workers=n) as pool:
+    with ProcessPoolExecutor(max_workers=n, initializer=limit_blas_threads) as pool:
         yield pool
 
 
