@@ -73,8 +73,9 @@ __all__ = [
 # 3: tables carry the surf-zone depth profile (models.surfzone); 4: rays leaving an edge short of the
 # wave base are continued to deep water (Snell), the invariant is read as C0·Cg0, regional grids;
 # 5: the contours beyond an edge come from plane fits over km-long strips, coasts that reach an
-# edge go on beyond it (models.edges)
-ENGINE_VERSION = "shoalcast-rays-5"
+# edge go on beyond it (models.edges); 6: beyond a flat edge strip rays go on straight (no
+# contours to refract over) and read the invariant as Ce·Cg0
+ENGINE_VERSION = "shoalcast-rays-6"
 
 # 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
 DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
