@@ -18,8 +18,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from models.breaking import shoal_to_breaking
+from models.breaking import shoal_to_breaking, wave_power
 from models.errors import InvalidInput
+from models.hazard import rip_current_likelihood
 from models.offshore import prepare_offshore
 from models.spectra import cos2s, jonswap
 from models.statistics import expected_max_height_ratio
@@ -88,6 +89,28 @@ def test_nothing_arriving_is_nan_not_zero_and_oblique_waves_break_at_an_angle() 
 def test_a_non_finite_water_level_is_refused() -> None:
     with pytest.raises(InvalidInput, match="water_level_m"):
         compute_spots(_batch(), [[_point()]], water_level_m=np.array([0.0, np.nan]))
+
+
+def test_hazard_inputs_are_the_power_and_rip_formulas_at_each_point() -> None:
+    """The per-point hazard inputs `compute_spots` fills equal `wave_power` (spectral, E Cg with
+    E = ρ g Hm0²/16, at the reference depth + water level) and `rip_current_likelihood` applied to
+    that point's nearshore values (the reference is those functions, tested in test_breaking.py and
+    test_hazard.py)."""
+    b = _batch(from_deg=255.0)
+    wl = np.array([0.3, -0.2])
+    arr = compute_spots(b, [[_point("a"), _point("b", y=100.0, k=0.7)], [_point("c", blocked=True)]],
+                        water_level_m=wl)  # fmt: skip
+    for got in arr:
+        hs, tp, dr = got.near_hs[..., 0], got.near_tp[..., 0], got.near_dir[..., 0]
+        for i in range(hs.shape[0]):
+            ok = np.isfinite(tp[i]) & (hs[i] > 0)
+            want = np.zeros(hs.shape[1])
+            if ok.any():
+                want[ok] = wave_power(hs[i][ok], tp[i][ok], depth=10.0 + wl[ok], kind="spectral") / 1000.0
+            np.testing.assert_allclose(got.near_power_kw_m[i], want, rtol=1e-12)
+            theta = np.where(np.isfinite(dr[i]), dr[i], 270.0) - 270.0
+            np.testing.assert_allclose(got.rip[i], rip_current_likelihood(hs[i], theta, wl - wl.mean()), rtol=1e-12)
+    assert np.all(arr[1].near_power_kw_m == 0.0) and np.all(arr[1].rip == 0.0)  # nothing arrives
 
 
 def test_wind_moves_only_the_breaker_type_in_douglass_direction() -> None:
