@@ -36,6 +36,9 @@ def build_parser() -> argparse.ArgumentParser:
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
+    from app.runtime import limit_blas_threads
+
+    limit_blas_threads()
     if args.command in _SERVICES:  # long-running: structured logs (JSON with SHOALCAST_LOG_JSON=true)
         from app.config import get_settings
         from app.observability import configure_logging

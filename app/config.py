@@ -30,6 +30,7 @@ class Settings(BaseSettings):
 
     # Tables and outlooks.
     table_workers: int = 0  # 0 = os.cpu_count()
+    blas_threads: int = Field(default=1, ge=0, description="BLAS threads per process (0 = the library's default).")
     outlook_hours: int = 72
     hazard_horizon_hours: int = 24
 

@@ -15,6 +15,7 @@ from collections.abc import Sequence
 from typing import NamedTuple
 
 import numpy as np
+from numpy.typing import NDArray
 
 from models.constants import DEG, G
 from models.directions import wrap_180
@@ -129,6 +130,50 @@ def peel_one_many(
     return out
 
 
+class PeelColumns(NamedTuple):
+    """`peel_one_many` as columns over the steps: None / NaN where nothing breaks."""
+
+    direction: list[str | None]  # "left" | "right" | "closeout"
+    sweep: list[str | None]  # "left" | "right" | "none"
+    angle_deg: NDArray[np.float64]  # peel angle α = |θb|
+    peel_rate_m_s: NDArray[np.float64]  # Cb cos α / sin α (inf at α = 0, 0 at 90°)
+
+
+def peel_one_columns(
+    p: PointSetup, angle_b: NDArray[np.float64], db: NDArray[np.float64], hb: NDArray[np.float64]
+) -> PeelColumns:
+    """`peel_one_many` for all steps at once in numpy (the same arithmetic, so the same values to a
+    rounding unit of the trigonometric functions). A step whose values `peel_one` would refuse goes
+    through `peel_one`, which raises with its message."""
+    normal = p.normal_deg
+    if not math.isfinite(normal):
+        raise InvalidInput(f"`contour_normal_from_deg` must be finite, got {normal!r}")
+    a, d, h = (np.asarray(v, dtype=float) for v in (angle_b, db, hb))
+    brk = np.isfinite(h)
+    with np.errstate(invalid="ignore"):
+        wave_from = (normal + a) % 360.0
+        theta = (wave_from - normal + 180.0) % 360.0 - 180.0
+        bad = brk & ~(np.isfinite(wave_from) & np.isfinite(d) & (d > 0) & (np.abs(theta) < 90.0))
+    for i in np.flatnonzero(bad).tolist():
+        peel_one(p, float(a[i]), float(d[i]))  # raises (the wave does not reach the contour sensibly)
+    alpha = np.where(brk, np.abs(theta), np.nan)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        cb = np.sqrt(G * np.where(brk, d, np.nan))
+        r = alpha * DEG
+        sin = np.sin(r)
+        rate = np.where(alpha >= 90, 0.0, np.where(sin == 0, np.inf, cb * np.cos(r) / sin))
+    side = np.where(theta < 0, "left", "right")
+    sweep = np.where(theta == 0, "none", side)
+    direction = np.where((theta == 0) | (alpha < CLOSEOUT_ANGLE_DEG), "closeout", side)
+    brk_l = brk.tolist()
+    return PeelColumns(
+        [v if b else None for v, b in zip(direction.tolist(), brk_l, strict=True)],
+        [v if b else None for v, b in zip(sweep.tolist(), brk_l, strict=True)],
+        alpha,
+        rate,
+    )
+
+
 def step_peel(
     points: Sequence[PointSetup], arr: SpotArrays, step: int, *, offshore_tp: float, offshore_dir: float
 ) -> StepPeel | None:
@@ -200,4 +245,6 @@ def step_peel(
     return StepPeel(peel_one(points[i], float(ang[i]), float(db[i])), i, i_big, "breaking-angle")
 
 
-__all__ = ["StepPeel", "crest_at_reference", "peel_one", "peel_one_many", "run_time", "step_peel"]
+__all__ = [
+    "PeelColumns", "StepPeel", "crest_at_reference", "peel_one", "peel_one_columns", "peel_one_many", "run_time", "step_peel",
+]  # fmt: skip

@@ -63,8 +63,10 @@ __all__ = [
     "TransferTable",
     "apply",
     "build_table",
+    "arrivals",
     "build_tables",
     "input_hash",
+    "prepare",
     "reference_point",
     "swell_window",
     "wave_base_period_s",
@@ -526,6 +528,114 @@ def _trace_table_rows(
         "unresolved_fraction": unresolved / 360.0,
         "n_rays": n_rays,
     }
+
+
+def prepare(grid: DepthGrid, **options: Any) -> tuple[DepthGrid, dict[str, Any]]:
+    """The smoothed grid and the tracing options `build_tables` uses for these `options` (its
+    keywords; `periods_s` is ignored), regional grids prepared: for callers that trace rays
+    to points of their own (`arrivals`)."""
+    defaults = dict(_DEFAULTS)
+    unknown = set(options) - set(defaults) - {"periods_s"}
+    if unknown:
+        raise InvalidInput(f"unknown option(s) {sorted(unknown)!r}")
+    defaults.update({k: v for k, v in options.items() if k != "periods_s"})
+    opts = _options(grid, **defaults)
+    return _prepared(grid, opts["smoothing_m"]), opts
+
+
+def arrivals(
+    grid: DepthGrid,
+    x: ArrayLike,
+    y: ArrayLike,
+    offshore_deg: ArrayLike,
+    period_s: float,
+    opts: dict[str, Any],
+    *,
+    half_fan_deg: float = 50.0,
+    fan_step_deg: float = 2.0,
+    refine: int = 16,
+) -> dict[str, NDArray[np.float64]]:
+    """What the rays bring to each point (x[i], y[i]) in the direction bin centred on the offshore
+    FROM direction offshore_deg[i], one period, on the grids and with the edge continuation of
+    the tables (`grid`, `opts` from `prepare`): K with the tables' deep-water normalisation and
+    bin (K² = C0·Cg0/(C·Cg) × launch measure mapped into the bin / bin width, the Longuet-Higgins
+    invariant of `_map_period`), the FROM direction at the point [deg], crest and energy times
+    [s] (plane-front reference through the origin, as the tables') and the share of the energy
+    on rays continued beyond a grid edge over assumed straight contours, energy-weighted.
+
+    A fan of backward rays every `fan_step_deg` within `half_fan_deg` of offshore_deg[i] is
+    traced from each point, and each interval that changes fate or whose offshore span comes
+    near the bin is split into `refine` parts (the continuation beyond a shallow edge stretches
+    the mapping, as the tables' refinement allows for). Neighbours whose offshore directions
+    differ by more than the fold jump count as single rays. Nothing arrives: K = 0, the rest NaN.
+    """
+    x, y, tgt = (np.asarray(a, dtype=float).ravel() for a in np.broadcast_arrays(x, y, offshore_deg))
+    g = opts["g"]
+    f = 1.0 / float(period_s)
+    half_bin = 180.0 / opts["n_bins"]
+    jump = float(opts["fold_jump_deg"])
+    n = x.size
+
+    def trace(owner, offs):
+        r = _trace(grid, x[owner], y[owner], _nautical_to_math(tgt[owner] + offs), np.full(owner.size, float(period_s)), opts)
+        he = np.where(r.status == OPEN, np.maximum(r.depth, 1e-3), 1.0)
+        proj = r.x * np.cos(r.theta) + r.y * np.sin(r.theta)
+        return {
+            "own": owner, "offs": offs, "open": r.status == OPEN,
+            "off": ((_math_to_nautical(r.offshore_theta) - tgt[owner] + 180.0) % 360.0) - 180.0,
+            "tc": r.crest_time - proj / phase_speed(f, he, g=g), "te": r.energy_time - proj / group_velocity(f, he, g=g),
+            "cont": r.continued.astype(float),
+        }  # fmt: skip
+
+    base = np.arange(-half_fan_deg, half_fan_deg + 0.5 * fan_step_deg, fan_step_deg)
+    m = base.size
+    c = trace(np.repeat(np.arange(n), m), np.tile(base, n))
+    op, off = c["open"].reshape(n, m), c["off"].reshape(n, m)
+    a, b = off[:, :-1], off[:, 1:]
+    # refined: intervals whose offshore span straddles the bin, and fate changes next to it
+    span = (np.minimum(a, b) <= half_bin) & (np.maximum(a, b) >= -half_bin)
+    edge_of_fate = (op[:, :-1] != op[:, 1:]) & (np.minimum(np.where(op[:, :-1], np.abs(a), np.inf),
+                                                             np.where(op[:, 1:], np.abs(b), np.inf)) <= half_bin + jump)
+    need = edge_of_fate | (op[:, :-1] & op[:, 1:] & span)
+    pi, ki = np.nonzero(need)
+    parts = np.arange(1, refine) / refine
+    fine = trace(np.repeat(pi, parts.size), (base[ki][:, None] + fan_step_deg * parts[None, :]).ravel())
+    rays = {k: np.concatenate([c[k], fine[k]]) for k in c}
+    h = np.maximum(grid.depth_at(x, y), 1e-3)
+    w = 0.5 * (g / (2.0 * math.pi * f)) ** 2 / (phase_speed(f, h, g=g) * group_velocity(f, h, g=g))
+    out = {key: np.full(n, np.nan) for key in ("from_deg", "crest_time_s", "energy_time_s")}
+    out["K"] = np.zeros(n)
+    out["continued_fraction"] = np.zeros(n)
+    for i in range(n):
+        sel = np.flatnonzero(rays["own"] == i)
+        sel = sel[np.argsort(rays["offs"][sel], kind="stable")]
+        o, d, ok = rays["offs"][sel], rays["off"][sel], rays["open"][sel]
+        gap = np.diff(o)
+        pa, pb = d[:-1], d[1:]
+        pair = ok[:-1] & ok[1:] & (np.abs(pb - pa) <= jump)
+        # launch measure of each interval mapped (linearly) into the bin
+        lo, hi = np.minimum(pa, pb), np.maximum(pa, pb)
+        over = np.clip(np.minimum(hi, half_bin) - np.maximum(lo, -half_bin), 0.0, None)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            frac = np.where(hi > lo, over / (hi - lo), ((lo >= -half_bin) & (lo < half_bin)).astype(float))
+        meas = np.where(pair, gap * frac, 0.0)
+        # an open ray without an open neighbour within the fold jump on a side: half that gap
+        lone = np.zeros(o.size)
+        lone[:-1] += np.where(pair, 0.0, 0.5 * gap)
+        lone[1:] += np.where(pair, 0.0, 0.5 * gap)
+        per_ray = np.where(ok & (np.abs(d) < half_bin), lone, 0.0)
+        per_ray[:-1] += 0.5 * meas
+        per_ray[1:] += 0.5 * meas
+        total = per_ray.sum()
+        if not total > 0:
+            continue
+        out["K"][i] = math.sqrt(w[i] * total / (2.0 * half_bin))
+        rad = np.radians(tgt[i] + o)
+        out["from_deg"][i] = math.degrees(math.atan2((per_ray * np.sin(rad)).sum(), (per_ray * np.cos(rad)).sum())) % 360.0
+        out["crest_time_s"][i] = (per_ray * np.where(ok, rays["tc"][sel], 0.0)).sum() / total
+        out["energy_time_s"][i] = (per_ray * np.where(ok, rays["te"][sel], 0.0)).sum() / total
+        out["continued_fraction"][i] = (per_ray * rays["cont"][sel]).sum() / total
+    return out
 
 
 _DEFAULTS: dict[str, Any] = dict(

@@ -31,6 +31,7 @@ from app.config import Settings, get_settings
 from app.errors import ShoalcastError
 from app.observability import CONTENT_TYPE as METRICS_CONTENT_TYPE
 from app.observability import REGISTRY, ObservabilityMiddleware, configure_logging
+from app.runtime import limit_blas_threads
 
 __all__ = ["create_app"]
 
@@ -219,6 +220,7 @@ class SchedulerState:
 
 def create_app(settings: Settings | None = None) -> FastAPI:
     settings = settings or get_settings()
+    limit_blas_threads(settings.blas_threads)
 
     @asynccontextmanager
     async def lifespan(app: FastAPI) -> AsyncIterator[None]:

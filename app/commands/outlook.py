@@ -72,7 +72,7 @@ def _run(args: argparse.Namespace) -> int:
         peel = "-" if s.peel.direction is None else f"{s.peel.direction} {_fmt(s.peel.angle_deg, '°')}"
         rows.append([
             rfc3339(s.time), s.input, f"{_fmt(h.typical)}/{_fmt(h.sets)}/{_fmt(h.largest)}", _fmt(s.period_s, " s"),
-            _fmt(s.nearshore_direction_deg, "°"), peel, s.breaker_type or "-", tide_text(s, u == "ft"),
+            _fmt(s.nearshore_direction_deg, "°"), peel, _breaker(s), tide_text(s, u == "ft"),
             wind_text(s, u == "ft"), f"{s.hazard.level} {s.hazard.label}",
         ])  # fmt: skip
     if rows:
@@ -84,6 +84,8 @@ def _run(args: argparse.Namespace) -> int:
         shallow = sorted({p for s in body.steps for p in s.shallow_points})
         print("tide: level above the bathymetry datum, ↑ rising ↓ falling, * observed"
               + (f"; ! too shallow or dry at some steps: {', '.join(shallow)}" if shallow else ""))
+        if any(_breaker(s).endswith("(wind)") for s in body.steps):
+            print("breaker: (wind) = type moved by the wind (Douglass 1990 direction; the size is shoalcast's)")
     else:
         print("no steps: no offshore spectra cover this window")
     for note in body.notes:
@@ -92,6 +94,14 @@ def _run(args: argparse.Namespace) -> int:
     for c in body.cautions:
         print(f"! {c}")
     return 0
+
+
+def _breaker(s) -> str:  # type: ignore[no-untyped-def]
+    if not s.breaker_type:
+        return "-"
+    fx = s.wind_effect
+    changed = fx is not None and fx.breaker_type_without_wind and fx.breaker_type_without_wind != s.breaker_type
+    return f"{s.breaker_type} (wind)" if changed else s.breaker_type
 
 
 def register(sub: argparse._SubParsersAction) -> None:

@@ -123,6 +123,7 @@ class DemoSpot:
     break_lines: tuple[tuple, ...]
     reference_depth_m: float = 10.0
     noise_seed: int = 0  # offset of this spot's smooth noise from SEED (fixed, so renames keep the seabed)
+    method: str = "rays"  # how its tables are computed ([model] method; docs/refraction-diffraction.md)
 
     @property
     def file_name(self) -> str:
@@ -193,6 +194,8 @@ SPOTS: tuple[DemoSpot, ...] = (
             ("east end", (1200.0, 1120.0), (1950.0, -179.0)),
         ),
         noise_seed=1126,
+        # the island's shadow is what rays cannot do: diffraction fills it (README, "the demo")
+        method="refraction-diffraction",
     ),
     DemoSpot(
         id="ostravel-strand",
@@ -608,7 +611,11 @@ def _profile_toml(spot: DemoSpot, points, sources) -> str:
               f"constituents = [{cons}]"]
     # table options sized for a quick demo build: 12 periods 5-20 s cover the demo's swells and
     # wind sea; 0.25° launch spacing keeps sheltered directions clean
-    lines += ["", "[model]", f"reference_depth_m = {spot.reference_depth_m:.1f}",
+    lines += ["", "[model]"]
+    if spot.method != "rays":
+        lines += ["# the island's shadow fills by diffraction, which rays cannot do (docs/refraction-diffraction.md)",
+                  f"method = {_toml_str(spot.method)}"]
+    lines += [f"reference_depth_m = {spot.reference_depth_m:.1f}",
               f"period_min_s = {PERIOD_MIN_S:g}", f"period_max_s = {PERIOD_MAX_S:g}", f"period_count = {PERIOD_COUNT}",
               f"launch_spacing_deg = {LAUNCH_SPACING_DEG:g}", ""]
     if spot.kind in ("point", "ridge"):

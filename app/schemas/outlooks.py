@@ -125,6 +125,17 @@ class PointDetail(_Model):
     runup_2pct_m: float | None = Field(default=None, description="2 % run-up (Stockdon et al. 2006)")
 
 
+class WindEffect(_Model):
+    """The wind's effect on the step's breaker type (docs/tide-wind.md §3)."""
+
+    method: str = Field(description="whose result and what is ours")
+    onshore_component_m_s: float | None = Field(description="wind toward the shore along the point's normal (negative: offshore)")
+    spilling_below_iribarren: float | None = Field(
+        description="the spilling/plunging boundary on the Iribarren number used (0.4 in still air, Battjes 1974)"
+    )
+    breaker_type_without_wind: str | None = Field(description="the still-air breaker type")
+
+
 class SurfZone(_Model):
     """The surf-zone model's values at the step's point (null on the single-wave path)."""
 
@@ -194,6 +205,9 @@ class Step(_Model):
     breaker_type: str | None
     breaking_depth_m: float | None = None
     iribarren: float | None = None
+    wind_effect: WindEffect | None = Field(
+        default=None, description="how the wind moved the breaker type; null without wind or breakers"
+    )
     largest_point: str | None = None
     surf_zone: SurfZone | None = None
     peel: Peel

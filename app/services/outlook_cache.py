@@ -15,7 +15,7 @@ import hashlib
 import json
 import logging
 import threading
-from datetime import datetime, timedelta
+from datetime import timedelta
 from typing import Any
 
 from sqlalchemy import select, text
@@ -23,40 +23,27 @@ from sqlalchemy.orm import Session
 
 from app.db.tables import OutlookCache, Source, utcnow
 from app.errors import BadInput, Conflict, NotFound
-from app.schemas.outlooks import OutlookBody, OutlookOptions
+from app.schemas.outlooks import OutlookBody
+from app.schemas.outlooks import OutlookOptions as OptionsBody
 from app.services import outlook_inputs as inputs
 from app.services.calibration import active_calibration, calibration_key
 from app.services.conditions import condition_key
 from app.services.outlook_compute import OUTLOOK_VERSION, compute_outlook
-from app.services.outlook_inputs import WaterLevel
+from app.services.outlook_inputs import OutlookOptions
 
 log = logging.getLogger(__name__)
 
 
-def variant(hours: int, start: datetime | None, units: str, agency_id: str | None, water: Any) -> str:
-    """The options part of a cache row's identity (one row per spot and variant)."""
-    key = json.dumps([hours, None if start is None else start.isoformat(), units, agency_id, water])
-    return hashlib.sha256(key.encode()).hexdigest()[:40]
-
-
-def outlook_key(
-    session: Session,
-    spot_id: str,
-    *,
-    hours: int = 72,
-    start: datetime | None = None,
-    units: str = "metric",
-    agency_id: str | None = None,
-    water_level_m: WaterLevel | None = None,
-) -> str:
+def outlook_key(session: Session, spot_id: str, options: OutlookOptions | None = None, **fields: Any) -> str:
     """Hash of exactly an outlook's inputs: spot profile, tables (input hash + engine version),
-    the observations it may use (id + content hash), the policy, the options and OUTLOOK_VERSION."""
+    the observations it may use (id + content hash), the policy, the options (`OutlookOptions`,
+    or its fields as keywords) and OUTLOOK_VERSION."""
     from app.services.spots import get_spot
 
-    inputs.check_options(hours, units)
+    opts = OutlookOptions.of(options, **fields)
     spot = get_spot(session, spot_id)
-    t0 = inputs.floor_hour(utcnow()) if start is None else inputs.aware(start, "start")
-    end = t0 + timedelta(hours=hours)
+    t0 = opts.first_hour(utcnow())
+    end = t0 + timedelta(hours=opts.hours)
     sources = []
     for sid in spot.sources or []:
         src = session.get(Source, sid)
@@ -72,8 +59,8 @@ def outlook_key(
         "bathymetry": None if spot.bathymetry is None else spot.bathymetry.sha256,
         "sources": sources,
         "observations": [[c.id, c.sha] for c in inputs.candidates(session, spot, t0, end)],
-        "policy": inputs.policy_of(session, agency_id, spot.id).to_mapping(),
-        "options": [hours, t0.isoformat(), units, agency_id, inputs.water_key(water_level_m)],
+        "policy": inputs.policy_of(session, opts.agency_id, spot.id).to_mapping(),
+        "options": opts.key(t0),
         "conditions": condition_key(session, spot, t0, end),
     }
     cal = active_calibration(session, spot.id)
@@ -119,12 +106,14 @@ def cached_row(session: Session, spot_id: str, variant_id: str) -> OutlookCache 
     ).first()
 
 
-def get_or_compute(session: Session, spot_id: str, **options: Any) -> tuple[OutlookBody, bool]:
+def get_or_compute(
+    session: Session, spot_id: str, options: OutlookOptions | None = None, **fields: Any
+) -> tuple[OutlookBody, bool]:
     """(outlook, whether it was computed now): the stored one when its key matches, else computed
     under the single-flight lock and stored (committed before the lock is released)."""
-    key = outlook_key(session, spot_id, **options)
-    v = variant(options.get("hours", 72), options.get("start"), options.get("units", "metric"),
-                options.get("agency_id"), inputs.water_key(options.get("water_level_m")))  # fmt: skip
+    opts = OutlookOptions.of(options, **fields)
+    key = outlook_key(session, spot_id, opts)
+    v = opts.variant()
     row = cached_row(session, spot_id, v)
     if row is not None and row.input_hash == key:
         if row.stale:  # marked by ingest, but nothing it uses changed
@@ -142,7 +131,7 @@ def get_or_compute(session: Session, spot_id: str, **options: Any) -> tuple[Outl
         row = cached_row(session, spot_id, v)
         if row is not None and row.input_hash == key:  # computed while we waited
             return OutlookBody.model_validate(row.body), False
-        body = compute_outlook(session, spot_id, **options)
+        body = compute_outlook(session, spot_id, options=opts)
         data = body.model_dump(mode="json")
         if row is None:
             row = OutlookCache(spot_id=spot_id, variant=v)
@@ -155,19 +144,9 @@ def get_or_compute(session: Session, spot_id: str, **options: Any) -> tuple[Outl
         lock.release()
 
 
-def get_outlook(
-    session: Session,
-    spot_id: str,
-    *,
-    hours: int = 72,
-    start: datetime | None = None,
-    units: str = "metric",
-    agency_id: str | None = None,
-    water_level_m: WaterLevel | None = None,
-) -> OutlookBody:
+def get_outlook(session: Session, spot_id: str, options: OutlookOptions | None = None, **fields: Any) -> OutlookBody:
     """The cached outlook when its inputs are unchanged, else computed and stored (see `outlook_key`)."""
-    return get_or_compute(session, spot_id, hours=hours, start=start, units=units, agency_id=agency_id,
-                          water_level_m=water_level_m)[0]  # fmt: skip
+    return get_or_compute(session, spot_id, options, **fields)[0]
 
 
 def refresh_stale(session: Session) -> list[str]:
@@ -179,9 +158,9 @@ def refresh_stale(session: Session) -> list[str]:
     done = []
     for row in list(session.scalars(select(OutlookCache).where(OutlookCache.stale.is_(True)))):
         try:
-            opts = OutlookOptions.model_validate(row.body.get("options", {}))
-            _, computed = get_or_compute(session, row.spot_id, hours=opts.hours, start=opts.start, units=opts.units,
-                                         agency_id=opts.agency_id, water_level_m=opts.water_level_m)  # fmt: skip
+            o = OptionsBody.model_validate(row.body.get("options", {}))
+            opts = OutlookOptions(o.hours, o.start, o.units, o.agency_id, o.water_level_m)
+            _, computed = get_or_compute(session, row.spot_id, opts)
         except (ValueError, BadInput, NotFound, Conflict) as exc:
             log.warning("outlook of spot %s (variant %s) not refreshed: %s", row.spot_id, row.variant, exc)
             continue
@@ -190,4 +169,4 @@ def refresh_stale(session: Session) -> list[str]:
     return sorted(set(done))
 
 
-__all__ = ["get_or_compute", "get_outlook", "outlook_key", "refresh_stale", "variant"]
+__all__ = ["get_or_compute", "get_outlook", "outlook_key", "refresh_stale"]

@@ -16,9 +16,11 @@ headland or an island is not smeared into the open part of the window) and maxim
 
 from __future__ import annotations
 
+import hashlib
+import json
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import UTC, datetime, timedelta
 from typing import Any
 
@@ -95,6 +97,52 @@ def water_key(water_level: WaterLevel | None) -> Any:
     if isinstance(water_level, int | float):
         return float(water_level)
     return [[aware(t, "water_level time").isoformat(), float(v)] for t, v in water_level]
+
+
+@dataclass(frozen=True)
+class OutlookOptions:
+    """What an outlook is asked for, checked once: the one place its options are named, keyed and
+    hashed (`compute_outlook`, `outlook_key` and `get_outlook` take it, or its fields as keywords).
+
+    `start`: the first hour (None: the current hour), in UTC; `water_level_m`: one level for every
+    step, or (time, level) pairs, instead of the spot's tide profile and observed levels."""
+
+    hours: int = 72
+    start: datetime | None = None
+    units: str = "metric"
+    agency_id: str | None = None
+    water_level_m: float | tuple[tuple[datetime, float], ...] | None = None
+
+    def __post_init__(self) -> None:
+        check_options(self.hours, self.units)
+        if self.start is not None:
+            object.__setattr__(self, "start", aware(self.start, "start"))
+        wl = self.water_level_m
+        if isinstance(wl, int | float):
+            object.__setattr__(self, "water_level_m", float(wl))
+        elif wl is not None:  # pairs, as a tuple so the options hash
+            object.__setattr__(self, "water_level_m", tuple((aware(t, "water_level time"), float(v)) for t, v in wl))
+
+    @classmethod
+    def of(cls, options: OutlookOptions | None = None, **fields: Any) -> OutlookOptions:
+        """`options`, or options from keywords (hours=..., start=...), or `options` with some replaced."""
+        if options is None:
+            return cls(**fields)
+        return replace(options, **fields) if fields else options
+
+    def first_hour(self, now: datetime) -> datetime:
+        """The outlook's first step: `start`, or the hour `now` is in."""
+        return floor_hour(now) if self.start is None else self.start
+
+    def key(self, first_hour: datetime | None = None) -> list[Any]:
+        """The options as JSON, in the order the cache keys hash them: [hours, start, units,
+        agency_id, water level]; with `first_hour` in place of a start of None (the outlook's key)."""
+        t = first_hour if self.start is None else self.start
+        return [self.hours, None if t is None else t.isoformat(), self.units, self.agency_id, water_key(self.water_level_m)]
+
+    def variant(self) -> str:
+        """The options part of a cached outlook's identity (one stored row per spot and variant)."""
+        return hashlib.sha256(json.dumps(self.key()).encode()).hexdigest()[:40]
 
 
 def policy_of(session: Session, agency_id: str | None, spot_id: str) -> HazardPolicy:
@@ -375,6 +423,6 @@ def select_inputs(found: list[OffshoreBatch]) -> list[OffshoreBatch]:
 
 
 __all__ = [
-    "Candidate", "WaterLevel", "aware", "batches", "candidates", "check_options", "efth_of", "estimate_of", "floor_hour",
+    "Candidate", "OutlookOptions", "WaterLevel", "aware", "batches", "candidates", "check_options", "efth_of", "estimate_of", "floor_hour",
     "one_grid", "policy_of", "records", "select_inputs", "spot_points", "water_key", "water_level_at",
 ]  # fmt: skip

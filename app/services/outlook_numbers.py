@@ -7,6 +7,7 @@ even at the step, then to 6 decimals, never -0.0, so a value reads the same wher
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from typing import Any
 
 import numpy as np
@@ -62,4 +63,36 @@ def grid(values: NDArray[np.float64], step: float = 0.1, as_deg: bool = False) -
     return [flat[i : i + n] for i in range(0, len(flat), n)]
 
 
-__all__ = ["deg", "degs", "grid", "none_for_nan", "num", "nums"]
+DEG = "deg"  # `round_many`'s step for whole degrees in [0, 360) (as `degs`)
+
+
+def round_many(specs: Sequence[tuple[Any, float | str]]) -> list[list[Any]]:
+    """`nums` (a 1-D array, or a scalar's one-value list) or `grid` rows (a 2-D array) of each
+    (values, step) in one pass: one rounding over all of them, as numpy's cost is per call when
+    the arrays are as short as an outlook's 72 steps. `step` DEG rounds as `degs`. The arithmetic
+    is the same element by element, so the values are the same as the one-array forms'."""
+    arrays = [np.asarray(a, dtype=float) for a, _ in specs]
+    if not arrays:
+        return []
+    sizes = [a.size for a in arrays]
+    flat = np.concatenate([a.ravel() for a in arrays])
+    is_deg = [st == DEG for _, st in specs]
+    step = np.repeat([1.0 if d else float(st) for d, (_, st) in zip(is_deg, specs, strict=True)], sizes)
+    with np.errstate(invalid="ignore", over="ignore"):
+        r = np.round(np.round(flat / step) * step, 6) + 0.0
+        if any(is_deg):
+            r = np.where(np.repeat(is_deg, sizes), (np.round(flat) + 0.0) % 360.0, r)
+    vals = none_for_nan(r)
+    out: list[list[Any]] = []
+    o = 0
+    for a, n in zip(arrays, sizes, strict=True):
+        if a.ndim == 2:
+            w = a.shape[1]
+            out.append([vals[i : i + w] for i in range(o, o + n, w)] if w else [[] for _ in range(a.shape[0])])
+        else:
+            out.append(vals[o : o + n])
+        o += n
+    return out
+
+
+__all__ = ["DEG", "deg", "degs", "grid", "none_for_nan", "num", "nums", "round_many"]

@@ -27,6 +27,7 @@ from app.db.session import session_scope
 from app.db.tables import BreakPoint, Spot, TransferTableRow, utcnow
 from app.errors import BadInput, NotFound
 from app.observability import TABLE_BUILDS
+from app.runtime import limit_blas_threads
 from app.services.spots import depth_grid_of, regional_grids_of
 from models import refdif, transfer
 from models.errors import InvalidInput
@@ -135,7 +136,7 @@ def executor_for(workers: int | None = None, dask_address: str | None = None) ->
     if n <= 1:
         yield None
         return
-    with ProcessPoolExecutor(max_workers=n) as pool:
+    with ProcessPoolExecutor(max_workers=n, initializer=limit_blas_threads) as pool:
         yield pool
 
 
@@ -183,9 +184,9 @@ def build_tables(
         opts = {k: v for k, v in ok[0].options.items() if k not in ("reference_depth_m", "break_x", "break_y", "method")}
         t_spot = time.perf_counter()
         try:
-            if ok[0].options.get("method") == refdif.METHOD:  # the local grid only (regional grids: rays)
+            if ok[0].options.get("method") == refdif.METHOD:  # regional grids: in its rays and start lines
                 tables = refdif.build_tables(
-                    grid, refs, executor=executor,
+                    grid, refs, executor=executor, regional=regional,
                     progress=(lambda done, total, what, _l=label: progress(f"{_l} {what}", done, total)) if progress else None,
                     **opts,
                 )  # fmt: skip

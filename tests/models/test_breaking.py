@@ -242,3 +242,38 @@ class TestShoalToBreaking:
 def test_bad_input_names_the_argument(call, match):
     with pytest.raises(InvalidInput, match=match):
         call()
+
+
+# --------------------------------------------------------------------------- wind on the breaker type
+# Douglass (1990, J. Waterway Port Coastal Ocean Eng. 116(6)): onshore wind makes waves break earlier
+# and spill, offshore wind holds them up and makes them plunge. The tested property is that direction;
+# the size of the shift is ours (models/breaking.py). Type order: spilling < plunging < collapsing.
+_RANK = {"spilling": 0, "plunging": 1, "collapsing": 2}
+_xi = st.floats(0.01, 5.0)
+_wind = st.floats(0.1, 40.0)
+
+
+@settings(max_examples=200, deadline=None)
+@given(_xi, _wind)
+def test_onshore_wind_never_more_plunging_and_offshore_never_more_spilling(xi, u):
+    still = _RANK[str(br.breaker_type(xi))]
+    assert _RANK[str(br.breaker_type_in_wind(xi, u))] <= still  # onshore (u > 0)
+    assert _RANK[str(br.breaker_type_in_wind(xi, -u))] >= still  # offshore (u < 0)
+
+
+@given(st.lists(_xi, min_size=1, max_size=20))
+def test_no_wind_is_the_still_air_type_exactly(xis):
+    x = np.array(xis)
+    np.testing.assert_array_equal(br.breaker_type_in_wind(x, np.full(x.size, np.nan)), br.breaker_type(x))
+    np.testing.assert_array_equal(br.breaker_type_in_wind(x, 0.0), br.breaker_type(x))
+
+
+def test_the_wind_moves_only_the_spilling_plunging_boundary():
+    # Battjes (1974) ξb boundaries 0.4 and 2.0 in still air; ours: 0.4 (1 + 0.25 u/10), |u| <= 10 m/s
+    np.testing.assert_allclose(br.wind_spilling_limit([np.nan, 0.0, 10.0, 30.0, -10.0, -4.0]),
+                               [0.4, 0.4, 0.5, 0.5, 0.3, 0.36])  # fmt: skip
+    assert str(br.breaker_type_in_wind(0.45, 10.0)) == "spilling"  # plunging in still air
+    assert str(br.breaker_type_in_wind(0.35, -10.0)) == "plunging"  # spilling in still air
+    assert str(br.breaker_type_in_wind(1.99, -40.0)) == "plunging"  # never pushed into collapsing
+    with pytest.raises(InvalidInput, match="onshore_m_s"):
+        br.wind_spilling_limit(np.inf)

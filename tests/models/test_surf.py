@@ -18,8 +18,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from models.breaking import shoal_to_breaking
+from models.breaking import shoal_to_breaking, wave_power
 from models.errors import InvalidInput
+from models.hazard import rip_current_likelihood
 from models.offshore import prepare_offshore
 from models.spectra import cos2s, jonswap
 from models.statistics import expected_max_height_ratio
@@ -88,3 +89,55 @@ def test_nothing_arriving_is_nan_not_zero_and_oblique_waves_break_at_an_angle() 
 def test_a_non_finite_water_level_is_refused() -> None:
     with pytest.raises(InvalidInput, match="water_level_m"):
         compute_spots(_batch(), [[_point()]], water_level_m=np.array([0.0, np.nan]))
+
+
+def test_hazard_inputs_are_the_power_and_rip_formulas_at_each_point() -> None:
+    """The per-point hazard inputs `compute_spots` fills equal `wave_power` (spectral, E Cg with
+    E = ρ g Hm0²/16, at the reference depth + water level) and `rip_current_likelihood` applied to
+    that point's nearshore values (the reference is those functions, tested in test_breaking.py and
+    test_hazard.py)."""
+    b = _batch(from_deg=255.0)
+    wl = np.array([0.3, -0.2])
+    arr = compute_spots(b, [[_point("a"), _point("b", y=100.0, k=0.7)], [_point("c", blocked=True)]],
+                        water_level_m=wl)  # fmt: skip
+    for got in arr:
+        hs, tp, dr = got.near_hs[..., 0], got.near_tp[..., 0], got.near_dir[..., 0]
+        for i in range(hs.shape[0]):
+            ok = np.isfinite(tp[i]) & (hs[i] > 0)
+            want = np.zeros(hs.shape[1])
+            if ok.any():
+                want[ok] = wave_power(hs[i][ok], tp[i][ok], depth=10.0 + wl[ok], kind="spectral") / 1000.0
+            np.testing.assert_allclose(got.near_power_kw_m[i], want, rtol=1e-12)
+            theta = np.where(np.isfinite(dr[i]), dr[i], 270.0) - 270.0
+            np.testing.assert_allclose(got.rip[i], rip_current_likelihood(hs[i], theta, wl - wl.mean()), rtol=1e-12)
+    assert np.all(arr[1].near_power_kw_m == 0.0) and np.all(arr[1].rip == 0.0)  # nothing arrives
+
+
+def test_wind_moves_only_the_breaker_type_in_douglass_direction() -> None:
+    # Douglass (1990): onshore wind spills, offshore wind plunges (direction tested; the size is ours,
+    # models/breaking.py); heights and depths stay the still-air ones; no wind -> exactly as before
+    rank = {"": -1, "spilling": 0, "plunging": 1, "collapsing": 2}
+    b = _batch(hs=0.8, tp=9.0, nt=4)
+    # slopes putting ξb near the still-air spilling/plunging boundary 0.4 (Battjes 1974)
+    pts = [PointSetup(n, 0.0, y, tb.table(), 2.0, m, 270.0) for n, y, m in (("a", 0.0, 0.03), ("b", 300.0, 0.045))]
+    still = compute_spots(b, [pts])[0]
+    # west-facing beach (270): wind from 270 onshore, from 90 offshore; NaN: no wind at that step
+    speed, frm = np.array([12.0, 12.0, np.nan, 6.0]), np.array([270.0, 90.0, 270.0, 0.0])
+    windy = compute_spots(b, [pts], wind_speed_m_s=speed, wind_from_deg=frm)[0]
+    for name in ("hb", "db", "iribarren", "kg"):
+        np.testing.assert_array_equal(getattr(windy, name), getattr(still, name))
+    np.testing.assert_array_equal(windy.breaker_type_still, still.breaker_type)
+    r = np.vectorize(rank.get)
+    assert np.all(r(windy.breaker_type[:, 0]) <= r(still.breaker_type[:, 0]))  # onshore
+    assert np.all(r(windy.breaker_type[:, 1]) >= r(still.breaker_type[:, 1]))  # offshore
+    np.testing.assert_array_equal(windy.breaker_type[:, 2], still.breaker_type[:, 2])  # no wind
+    assert (windy.breaker_type[:, 0] != still.breaker_type[:, 0]).any()  # some plunging class now spills
+    assert (windy.breaker_type[:, 1] != still.breaker_type[:, 1]).any()  # some spilling class now plunges
+    np.testing.assert_allclose(windy.wind_onshore_m_s[:, :2], [[12.0, -12.0]] * 2, atol=1e-9)
+    assert abs(windy.wind_onshore_m_s[0, 3]) < 1e-9  # from the north: along the shore, no shift
+    assert np.isnan(windy.wind_onshore_m_s[:, 2]).all() and np.isnan(windy.spilling_limit[:, 2]).all()
+    assert still.wind_onshore_m_s is None and still.breaker_type_still is None
+    with pytest.raises(InvalidInput, match="go together"):
+        compute_spots(b, [pts], wind_speed_m_s=speed)
+    with pytest.raises(InvalidInput, match="shape"):
+        compute_spots(b, [pts], wind_speed_m_s=speed[:2], wind_from_deg=frm[:2])

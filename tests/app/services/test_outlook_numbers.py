@@ -13,7 +13,7 @@ import numpy as np
 from hypothesis import given
 from hypothesis import strategies as st
 
-from app.services.outlook_numbers import deg, degs, grid, num, nums
+from app.services.outlook_numbers import DEG, deg, degs, grid, num, nums, round_many
 
 FINITE = st.floats(-1e6, 1e6, allow_nan=False, allow_infinity=False)
 ANY = st.one_of(FINITE, st.just(math.nan), st.just(math.inf), st.just(-math.inf))
@@ -45,3 +45,22 @@ def test_grid_keeps_rows_and_makes_one_value_rows_of_a_vector() -> None:
     assert grid(a) == [[0.0, None, 1.3], [2.0, 3.0, 0.0]]
     assert grid(np.array([1.0, 2.0])) == [[1.0], [2.0]]
     assert grid(np.array([[359.7, 1.2]]), as_deg=True) == [[0.0, 1.0]]
+
+
+@given(
+    st.lists(st.tuples(st.lists(ANY, min_size=0, max_size=12), st.sampled_from([0.01, 0.1, 0.5, 1.0, DEG])), max_size=6),
+    st.integers(1, 3),
+)
+def test_round_many_equals_the_one_array_forms(specs: list[tuple[list[float], float | str]], width: int) -> None:
+    """One pass over many arrays gives exactly what `nums`/`degs` (1-D) and `grid` (2-D) give each."""
+    arrays = []
+    for values, step in specs:
+        a = np.array(values, dtype=float)
+        n = a.size - a.size % width
+        arrays.append((a[:n].reshape(-1, width) if width > 1 else a, step))
+    got = round_many(arrays)
+    for (a, step), g in zip(arrays, got, strict=True):
+        if a.ndim == 2:
+            assert g == grid(a, 1.0 if step == DEG else step, as_deg=step == DEG)
+        else:
+            assert g == (degs(a) if step == DEG else nums(a, step))

@@ -124,3 +124,22 @@ def test_policy_rules_see_the_steps_water_level_tide_and_wind() -> None:
     assert [s.hazard.level for s in built] == expect
     assert [s.wind.relative for s in built] == ["onshore"] * 3
     assert expect == [3, 2, 3]  # 9 m/s at the middle step: below the wind rule; the tide rule holds there
+
+
+def test_the_wind_effect_on_the_breaker_type_is_named_and_no_wind_changes_nothing() -> None:
+    # Douglass (1990) direction on the breaker type (models/breaking.py; the shift size is ours)
+    b, pts, arr = _setup(n_points=1)
+    nan = np.full(len(b.times), np.nan)
+    calm = compute_spots(b, [pts], wind_speed_m_s=nan, wind_from_deg=nan)[0]
+    assert steps_mod.step_dicts(b, pts, calm, DEFAULT_POLICY, "metric") == steps_mod.step_dicts(
+        b, pts, arr, DEFAULT_POLICY, "metric"
+    )  # a wind source without a value at these steps: exactly the still-air steps
+    windy = compute_spots(b, [pts], wind_speed_m_s=np.full(3, 8.0), wind_from_deg=np.full(3, 270.0))[0]
+    built = steps_mod.build_steps(b, pts, windy, DEFAULT_POLICY, "metric")
+    for t, s in enumerate(built):
+        fx = s.wind_effect
+        assert fx is not None and "Douglass (1990)" in fx.method and "shoalcast's" in fx.method
+        assert fx.onshore_component_m_s == pytest.approx(8.0)  # from the west on a west-facing point
+        assert fx.spilling_below_iribarren == pytest.approx(0.4 * (1 + 0.25 * 0.8))
+        assert fx.breaker_type_without_wind == arr.breaker_type[0, t, 1]
+    assert all(s.wind_effect is None for s in steps_mod.build_steps(b, pts, arr, DEFAULT_POLICY, "metric"))

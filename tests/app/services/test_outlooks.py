@@ -620,6 +620,27 @@ def test_cache_unchanged_inputs_do_no_work_and_new_observations_recompute_only_t
     assert fresh.steps[0].issued == new
 
 
+def test_options_as_one_object_or_as_keywords_are_the_same_outlook(migrated_db: str) -> None:
+    """`OutlookOptions` or its fields as keywords: the same key, the same stored row, the same body."""
+    with session_scope(migrated_db) as s:
+        a = _source(s, "feed-o")
+        _spot(s, "spot-o", ["feed-o"])
+        store_result(s, a, _records(fx.hours(T0, 3), [fx.swell(1.0, 10.0, 270.0)] * 3, issue=T0 - timedelta(hours=6)),
+                     files=["o"])  # fmt: skip
+    opts = outlooks.OutlookOptions(hours=2, start=T0, units="imperial")
+    with session_scope(migrated_db) as s:
+        key = outlook_cache.outlook_key(s, "spot-o", opts)
+        assert key == outlook_cache.outlook_key(s, "spot-o", hours=2, start=T0, units="imperial")
+        assert key != outlook_cache.outlook_key(s, "spot-o", opts, units="metric")
+        body, computed = outlook_cache.get_or_compute(s, "spot-o", opts)
+        assert computed and body.options.units == "imperial" and body.options.hours == 2
+    with session_scope(migrated_db) as s:
+        again, computed = outlook_cache.get_or_compute(s, "spot-o", hours=2, start=T0, units="imperial")
+        assert not computed  # the row stored under the options object
+        assert {r.variant for r in s.query(OutlookCache)} == {opts.variant()}
+    assert again.model_dump(mode="json") == body.model_dump(mode="json")
+
+
 def test_missing_tables_and_unknown_spot_are_clear_errors(migrated_db: str) -> None:
     from app.errors import Conflict, NotFound
 
