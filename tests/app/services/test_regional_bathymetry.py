@@ -76,6 +76,7 @@ def test_regional_grid_imports_builds_and_marks_continued_directions(
     built = _json(capsys, ["tables", "build", "--workers", "1", "--json"])
     assert len(built["built"]) == 1 and not built["failed"]
     win = _json(capsys, ["window", "test-reef", "--json"])
+    assert win["wave_base_period_s"] == spot["wave_base_period_s"]  # the window says the reach too
     [p] = win["points"]
     assert p["periods_s"] == [6.0, 9.798, 16.0]
     # 6 s and 9.8 s reach their wave base inside the regional grid: within 45° of the shore normal
