@@ -203,7 +203,7 @@ def continue_to_deep(
     theta: NDArray[np.float64],
     u_ratio: NDArray[np.float64],
     side: NDArray[np.intp],
-) -> tuple[NDArray[np.bool_], NDArray[np.float64]]:
+) -> tuple[NDArray[np.bool_], NDArray[np.float64], NDArray[np.bool_]]:
     """For rays leaving edge `side` at (x, y) with direction `theta` [rad, math] where Ce/C0 is
     `u_ratio`: can they come from deep water, and from which direction?
 
@@ -212,7 +212,8 @@ def continue_to_deep(
     water if it heads seaward (cos αe > 0) and sin αe < Ce/C0 (otherwise it would turn back
     first: a trapped ray running along the coast); beyond a flat strip it goes on straight. Either
     way its deep-water direction, drawn from the exit point, must not cross a coast continued
-    beyond an edge. Returns (reaches, deep-water direction [rad, math]).
+    beyond an edge. Returns (reaches, deep-water direction [rad, math], straight: beyond a flat
+    strip, where the contours are in effect square to the ray and Snell bends nothing).
     """
     ec = edge_contours(grid)
     nx = np.empty(x.size)
@@ -237,4 +238,4 @@ def continue_to_deep(
     # a flat strip has no contours to refract over: the ray goes on straight (it is leaving the grid)
     reaches = np.where(fit, snell, cos_a > 0) & (depth > _H_FLOOR)
     reaches &= ~_crosses_coast(x, y, np.cos(theta0), np.sin(theta0), ec.coasts)
-    return reaches, np.where(reaches, theta0, theta)
+    return reaches, np.where(reaches, theta0, theta), ~fit

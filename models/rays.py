@@ -121,6 +121,7 @@ class RayResult(NamedTuple):
     offshore_theta: NDArray[np.float64]
     continued: NDArray[np.bool_]
     path: NDArray[np.float64] | None = None
+    straight: NDArray[np.bool_] | None = None  # continued straight on beyond a flat edge strip
 
     @property
     def n_open(self) -> int:
@@ -223,6 +224,7 @@ def trace_rays(
     out_status = np.full(n, LOST, dtype=np.int8)
     out = {k: np.zeros(n) for k in ("x", "y", "theta", "length", "ct", "et", "depth", "theta0")}
     out_cont = np.zeros(n, dtype=bool)
+    out_straight = np.zeros(n, dtype=bool)
     out_steps = np.zeros(n, dtype=np.int64)
 
     # Active-ray state, columns x, y, theta, s, crest time, energy time. `prev` is the state before
@@ -249,7 +251,7 @@ def trace_rays(
         uc = u * c0v
         return np.stack([cs, sn, kap, tab[:, 1] / uc, tab[:, 2] / uc], axis=-1), smp
 
-    def finish(sel, status, state, depth, theta0=None, cont=None):
+    def finish(sel, status, state, depth, theta0=None, cont=None, straight=None):
         r = idx[sel]
         out_status[r] = status
         s = state[sel]
@@ -259,6 +261,7 @@ def trace_rays(
         out["theta0"][r] = s[:, 2] if theta0 is None else theta0[sel]
         if cont is not None:
             out_cont[r] = cont[sel]
+            out_straight[r] = straight[sel]
         out_steps[r] = it
 
     it = 0
@@ -362,7 +365,7 @@ def trace_rays(
             he = smp[:, 0]
             side = _edge_of(st[sel, 0], st[sel, 1], grid.extent)
             u = np.sqrt(k0[sel] * np.maximum(he, _H_FLOOR))
-            reach, th0 = continue_to_deep(grid, st[sel, 0], st[sel, 1], he, st[sel, 2], u / _lookup(u)[:, 1], side)
+            reach, th0, flat = continue_to_deep(grid, st[sel, 0], st[sel, 1], he, st[sel, 2], u / _lookup(u)[:, 1], side)
             ok = (he >= edge_depth[sel]) & edge_open[side] & (deep[sel] | reach)
             handed = np.zeros(sel.size, dtype=bool) if pass_through is None else pass_through(st[sel, 0], st[sel, 1])
             m_open = np.zeros(idx.size, dtype=bool)
@@ -380,7 +383,9 @@ def trace_rays(
             cont = m_open & ~deep
             theta0 = fin[:, 2].copy()
             theta0[sel] = np.where(deep[sel], theta0[sel], th0)
-            finish(m_open, OPEN, fin, np.where(dp, hsv, hx), theta0, cont)
+            straight = np.zeros(idx.size, dtype=bool)
+            straight[sel] = flat
+            finish(m_open, OPEN, fin, np.where(dp, hsv, hx), theta0, cont, cont & straight)
             finish(m_block, BLOCKED, st, hx)
             finish(m_pass, PASSED, st, hx)
             keep = ~out_x
@@ -400,5 +405,6 @@ def trace_rays(
         steps=out_steps,
         offshore_theta=out["theta0"],
         continued=out_cont,
+        straight=out_straight,
         path=np.stack(path) if path is not None else None,
     )

@@ -75,8 +75,9 @@ __all__ = [
 # 3: tables carry the surf-zone depth profile (models.surfzone); 4: rays leaving an edge short of the
 # wave base are continued to deep water (Snell), the invariant is read as C0·Cg0, regional grids;
 # 5: the contours beyond an edge come from plane fits over km-long strips, coasts that reach an
-# edge go on beyond it (models.edges)
-ENGINE_VERSION = "shoalcast-rays-5"
+# edge go on beyond it (models.edges); 6: beyond a flat edge strip rays go on straight (no
+# contours to refract over) and read the invariant as Ce·Cg0
+ENGINE_VERSION = "shoalcast-rays-6"
 
 # 32 periods, 4-25 s, geometric spacing (finer where short-period swell changes fastest)
 DEFAULT_PERIODS_S = np.round(np.geomspace(4.0, 25.0, 32), 3)
@@ -358,7 +359,7 @@ def _trace_one(grid, x, y, theta, periods, opts, open_edges, step_m, outer):
 
 
 _ADDED = ("length", "crest_time", "energy_time", "steps")  # summed over the grids a ray crosses
-_TAKEN = ("status", "x", "y", "theta", "depth", "offshore_theta", "continued")  # from its last grid
+_TAKEN = ("status", "x", "y", "theta", "depth", "offshore_theta", "continued", "straight")  # from its last grid
 
 
 def _trace(grid, x_ref, y_ref, beta_rad, periods, opts):
@@ -389,7 +390,7 @@ def _trace(grid, x_ref, y_ref, beta_rad, periods, opts):
     return r._replace(**out)
 
 
-_RAY_FIELDS = ("status", "theta", "offshore_theta", "continued", "x", "y", "depth", "crest_time", "energy_time")
+_RAY_FIELDS = ("status", "theta", "offshore_theta", "continued", "straight", "x", "y", "depth", "crest_time", "energy_time")
 
 
 def _refined_rays(grid, x_ref, y_ref, periods, opts) -> list[dict[str, NDArray]]:
@@ -480,6 +481,10 @@ def _trace_table_rows(
         # past L0/2 (there C·Cg is still 1.6 % above it) and those continued beyond an edge
         c0cg0 = 0.5 * (g / (2.0 * math.pi * f)) ** 2
         w = np.full(st.size, c0cg0 / (phase_speed(f, h_ref, g=g) * group_velocity(f, h_ref, g=g)))
+        # a ray continued straight on beyond a flat edge strip met the contours beyond square on:
+        # Snell spreads its neighbours by dθ0/dθe = C0/Ce there, which its unbent deep-water
+        # direction leaves out of the interval mapping, so the invariant carries it (Ks alone, Kr = 1)
+        w = np.where(op & d["straight"], w * ce / (g / (2.0 * math.pi * f)), w)
         # plane-front reference through the origin: the wave travels toward -(cos θ, sin θ)
         proj = d["x"] * np.cos(d["theta"]) + d["y"] * np.sin(d["theta"])
         tc = d["crest_time"] - proj / ce

@@ -63,6 +63,10 @@ def _window(args: argparse.Namespace) -> int:
         print_json(body)
         return 0
     print(f"{body['name']} ({body['spot_id']}), faces {body['faces_deg']:g}°: swell window (K > {body['threshold']:g})")
+    wb = body.get("wave_base_period_s")
+    if wb is not None:
+        print(f"  the grids reach the wave base up to {wb:g} s; beyond their edges longer periods rest on assumed "
+              "straight contours (last column)")
     for p in body["points"]:
         if not p.get("built"):
             print(f"\n  {p['name']}: no table yet (run `shoalcast tables build {body['spot_id']}`)")

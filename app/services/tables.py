@@ -264,10 +264,12 @@ def _continued_arcs(t: transfer.TransferTable, threshold: float) -> list[list[tu
 def window_body(session: Session, spot_id: str, *, threshold: float = WINDOW_THRESHOLD) -> dict[str, Any]:
     """The swell window of every break point (`shoalcast window --json`, GET /v1/spots/{id}/window)."""
     spot = session.scalars(
-        select(Spot).options(selectinload(Spot.break_points).selectinload(BreakPoint.table)).where(Spot.id == spot_id)
-    ).first()
+        select(Spot).options(selectinload(Spot.bathymetry), selectinload(Spot.regional_grids),
+                             selectinload(Spot.break_points).selectinload(BreakPoint.table)).where(Spot.id == spot_id)
+    ).first()  # fmt: skip
     if spot is None:
         raise NotFound(f"no spot with id {spot_id!r}")
+    reach = transfer.wave_base_period_s([depth_grid_of(spot), *regional_grids_of(spot)])
     points = []
     for bp in spot.break_points:
         if bp.table is None:
@@ -291,4 +293,5 @@ def window_body(session: Session, spot_id: str, *, threshold: float = WINDOW_THR
             "open_arcs_deg": [[[round(a, 1), round(b, 1)] for a, b in row] for row in arcs],
             "continued_arcs_deg": [[[round(a, 1), round(b, 1)] for a, b in row] for row in _continued_arcs(t, threshold)],
         })  # fmt: skip
-    return {"spot_id": spot.id, "name": spot.name, "faces_deg": spot.faces_deg, "threshold": threshold, "points": points}
+    return {"spot_id": spot.id, "name": spot.name, "faces_deg": spot.faces_deg, "threshold": threshold,
+            "wave_base_period_s": None if reach is None else round(reach, 1), "points": points}  # fmt: skip

@@ -14,7 +14,7 @@ __all__ = ["STATIC_DIR", "TEMPLATE_DIR", "render"]
 
 TEMPLATE_DIR = Path(__file__).with_name("templates")
 STATIC_DIR = Path(__file__).with_name("static")
-ASSET_VERSION = "1"  # bump when a static file changes (it is part of every asset URL)
+ASSET_VERSION = "2"  # bump when a static file changes (it is part of every asset URL)
 
 
 @cache

@@ -314,20 +314,19 @@ def breaker_text(kind: Any, wind_effect: Any) -> str:
 
 
 def percent(p: Any) -> str:
-    """A likelihood 0..1 as whole percent ('–' when there is none)."""
-    return "–" if p is None else f"{round(float(p) * 100):d} %"
+    """A likelihood 0..1 as whole percent ('–' when there is none); a no-break space before '%'."""
+    return "–" if p is None else f"{round(float(p) * 100):d}\u00a0%"
 
 
-def shore_break_text(now: Any, onset: Any, zone: Any = None) -> str:
-    """'now', 'from <time UTC>' (and spot time), 'none ahead', or '–' without an outlook."""
+def shore_break_text(now: Any, onset: Any, zone: Any = None) -> str | None:
+    """The shore-break ahead: 'shore-break from <time UTC>' (and spot time), 'no shore-break
+    ahead', or None without an outlook (a shore-break now is said in the "now" cell)."""
     if now is None and onset is None:
-        return "–"
-    if now:
-        return "now"
-    if onset:
-        text = "from " + when(onset, None, fmt="%a %d %H:%M UTC")
+        return None
+    if onset and not now:
+        text = "shore-break from " + when(onset, None, fmt="%a %d %H:%M UTC")
         return text + (f", {when(onset, zone, fmt='%H:%M')} {zone_label(zone, _time(onset))}" if zone else "")
-    return "none ahead"
+    return None if now else "no shore-break ahead"
 
 
 def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dict[str, Any]]:
@@ -349,7 +348,8 @@ def board_rows(summary: Mapping[str, Any], zones: Mapping[str, str]) -> list[dic
             "valid_until": when(s.get("valid_until"), None, fmt="%H:%M UTC") if s.get("valid_until") else "–",
             "rip_now": percent(s.get("rip_current_likelihood")),
             "rip_max": percent(s.get("max_rip_current_likelihood")),
-            "shore_break": shore_break_text(s.get("shore_break"), sb_onset, zone if local else None),
+            "sb_now": None if s.get("shore_break") is None else ("shore-break now" if s["shore_break"] else "no shore-break"),
+            "sb_ahead": shore_break_text(s.get("shore_break"), sb_onset, zone if local else None),
             "note": s.get("note"),
             "policy": s.get("policy"),
             "policy_is_default": s.get("policy_is_default"),

@@ -50,9 +50,9 @@ def test_flat_noisy_floor_takes_the_edge_normal():
     # a ray leaving such an edge goes on straight, even at 60° off the edge normal
     g = plane_grid(270.0, slope=0.0, sigma=0.3)
     th = np.array([math.radians(180.0 - 60.0)])
-    reach, th0 = continue_to_deep(g, np.array([g.x0]), np.array([0.0]), np.array([30.0]), th, np.array([0.6]),
+    reach, th0, straight = continue_to_deep(g, np.array([g.x0]), np.array([0.0]), np.array([30.0]), th, np.array([0.6]),
                                   np.array([2]))  # fmt: skip
-    assert reach[0] and th0[0] == pytest.approx(th[0])
+    assert reach[0] and straight[0] and th0[0] == pytest.approx(th[0])
 
 
 def test_snell_at_the_edge():
@@ -60,12 +60,12 @@ def test_snell_at_the_edge():
     g = plane_grid(270.0)
     th_e = math.radians(180.0 - 20.0)  # travelling west-north-west: 20° from the normal (math angle)
     ratio = 0.6
-    reach, th0 = continue_to_deep(g, np.array([g.x0]), np.array([0.0]), np.array([30.0]),
+    reach, th0, _ = continue_to_deep(g, np.array([g.x0]), np.array([0.0]), np.array([30.0]),
                                   np.array([th_e]), np.array([ratio]), np.array([2]))  # fmt: skip
     assert reach[0]
     # 20° north of west at the edge -> further north of west in deep water
     assert math.sin(math.pi - th0[0]) == pytest.approx(math.sin(math.radians(20.0)) / ratio, abs=1e-9)
     # beyond asin(Ce/C0) the ray is trapped
-    reach, _ = continue_to_deep(g, np.array([g.x0]), np.array([0.0]), np.array([30.0]),
+    reach, _, _ = continue_to_deep(g, np.array([g.x0]), np.array([0.0]), np.array([30.0]),
                                 np.array([math.radians(180.0 - 40.0)]), np.array([ratio]), np.array([2]))  # fmt: skip
     assert not reach[0]

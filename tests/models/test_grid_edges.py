@@ -195,3 +195,18 @@ def test_continued_beam_never_narrower_than_at_the_edge():
     # not continued: the interval is the deep-water one (refraction on the grid is data)
     acc2, _ = _map_period(*args, np.zeros(3), gap, 1.0, 180, 2.0, 10.0, d_exit)
     assert acc2[:, 0].max() == pytest.approx(10.0)
+
+
+def test_flat_floor_gives_normal_incidence_shoaling_in_every_direction():
+    # A flat 24 m floor whose grid ends short of the wave base (L0/2 = 78 m at 10 s, 200 m at 16 s):
+    # no contours on it, so rays go on straight, each meeting the contours beyond square on. Snell
+    # then bends nothing and K is the shoaling coefficient alone, Ks = sqrt(Cg0 / Cg(24 m)) (Dean &
+    # Dalrymple 1991 ch. 3; SPM 1984 §2-III), from every direction: reading C0·Cg0 without the
+    # deep-water spreading would make it sqrt(C0/C) (13-25 %) too large.
+    dx = 50.0
+    g = DepthGrid(np.full((81, 81), 24.0), -2000.0, -2000.0, dx, dx)
+    t = build_table(g, 0.0, 0.0, periods_s=[10.0, 16.0])
+    for p, T in enumerate([10.0, 16.0]):
+        ks = math.sqrt(0.5 * G * T / (2 * np.pi) / group_velocity(1.0 / T, 24.0))
+        np.testing.assert_allclose(t.coefficient[p], ks, rtol=0.01)
+        assert t.continued_fraction[p].min() == pytest.approx(1.0)

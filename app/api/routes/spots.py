@@ -145,9 +145,34 @@ async def _read_limited(upload: UploadFile, limit: int, name: str) -> bytes:
     return data
 
 
+def _regional_files(specs: Any, parts: list[tuple[str, bytes]]) -> list[tuple[str, str, bytes]]:
+    """(field, path, bytes) of each `[[regional_bathymetry]]` entry, its upload matched by file name;
+    a missing, doubled or unnamed upload is refused naming the field."""
+    by_name: dict[str, bytes] = {}
+    for name, data in parts:
+        if not name or name in by_name:
+            what = "has no file name" if not name else f"{name!r} is sent twice"
+            raise ProfileError(f"upload `regional`: a file part {what}; each is matched to a "
+                               "`regional_bathymetry.N.file` of the profile by its file name", field="regional")
+        by_name[name] = data
+    out = []
+    for n, spec in enumerate(specs):
+        field = f"regional_bathymetry.{n}.file"
+        data = by_name.pop(Path(spec.file).name, None)
+        if data is None:
+            raise ProfileError(f"profile field `{field}` names {spec.file!r} but no `regional` upload has the file name "
+                               f"{Path(spec.file).name!r}: send one `regional` file part per [[regional_bathymetry]] "
+                               "entry, named as its `file`", field=field)
+        out.append((field, spec.file, data))
+    if by_name:
+        raise ProfileError(f"upload `regional`: {', '.join(repr(k) for k in sorted(by_name))} is not the `file` of any "
+                           "[[regional_bathymetry]] entry of the profile", field="regional")
+    return out
+
+
 @router.put(
     "/spots/{spot_id}",
-    summary="Add or replace a spot from a profile TOML and its bathymetry file (multipart)",
+    summary="Add or replace a spot from a profile TOML, its bathymetry file and any regional grids (multipart)",
     response_model=SpotPublic,
     status_code=200,
     responses={200: {"description": "Replaced", "links": SPOT_LINKS},
@@ -160,10 +185,15 @@ async def put_spot(
     _key: ApiKeyDep,
     profile: Annotated[UploadFile, File(description="spot profile TOML; its `bathymetry.file` names the other upload")],
     bathymetry: Annotated[UploadFile, File(description="bathymetry grid (ESRI ASCII, NetCDF or XYZ)")],
+    regional: Annotated[list[UploadFile] | None, File(
+        description="the regional grids of the profile's `[[regional_bathymetry]]` entries: one `regional` file part "
+                    "per entry, its filename the entry's `file` name (any order)")] = None,
 ) -> Response:
     limit = settings.max_upload_bytes
     profile_bytes = await _read_limited(profile, limit, "profile")
     grid_bytes = await _read_limited(bathymetry, limit, "bathymetry")
+    regional_parts = [(Path(up.filename or "").name, await _read_limited(up, limit, f"regional[{k}]"))
+                      for k, up in enumerate(regional or [])]  # fmt: skip
     try:
         text = profile_bytes.decode("utf-8")
     except UnicodeDecodeError as exc:
@@ -173,13 +203,16 @@ async def put_spot(
         raise ProfileError(f"profile field `id` is {parsed.id!r} but the path says {spot_id!r}", field="id")
     with tempfile.TemporaryDirectory(prefix="shoalcast-upload-") as tmp:
         base = Path(tmp).resolve()
-        target = (base / parsed.bathymetry.file).resolve()
-        if Path(parsed.bathymetry.file).is_absolute() or not target.is_relative_to(base) or target == base:
-            raise ProfileError(
-                f"profile field `bathymetry.file`: {parsed.bathymetry.file!r} must be a relative path inside the upload",
-                field="bathymetry.file")
-        target.parent.mkdir(parents=True, exist_ok=True)
-        target.write_bytes(grid_bytes)
+        files = [("bathymetry.file", parsed.bathymetry.file, grid_bytes)]
+        files += _regional_files(parsed.regional_bathymetry, regional_parts)
+        for field, name, data in files:
+            target = (base / name).resolve()
+            if Path(name).is_absolute() or not target.is_relative_to(base) or target == base:
+                raise ProfileError(f"profile field `{field}`: {name!r} must be a relative path inside the upload", field=field)
+            if target.exists():
+                raise ProfileError(f"profile field `{field}`: {name!r} is already the file of another grid", field=field)
+            target.parent.mkdir(parents=True, exist_ok=True)
+            target.write_bytes(data)
         (base / "profile.toml").write_text(text, encoding="utf-8")
         loaded = spot_service.load_profile(base / "profile.toml")
     existed = session.get(Spot, spot_id) is not None

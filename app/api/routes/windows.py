@@ -48,6 +48,11 @@ class SwellWindow(BaseModel):
     name: str
     faces_deg: float
     threshold: float
+    wave_base_period_s: float | None = Field(
+        default=None,
+        description="Longest period whose wave base (L0/2) the spot's grids reach (as on GET /v1/spots/{id}); the "
+                    "open directions of longer periods rest on straight contours assumed beyond the grids' edges "
+                    "(`continued_arcs_deg`). Null: no open-ocean edge.")
     points: list[WindowPoint]
 
 

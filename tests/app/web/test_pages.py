@@ -172,13 +172,15 @@ def test_board_shows_rip_likelihood_and_shore_break_with_their_caution(site: Api
     c = site.client
     summary = c.get(f"/v1/agencies/{AGENCY_ID}/hazards").json()
     text = html(c.get(f"/agencies/{AGENCY_ID}/board"))
-    assert "Rip currents now / highest ahead" in text and ">Shore-break</th>" in text
+    assert text.count("<th scope=\"col\"") == 3  # still three columns (phones): the nearshore lines sit in them
     assert str(escape(RIP_CAUTION)) in text  # beside the numbers, in the fragment the page swaps in
     shown = [s for s in summary["spots"] if s["rip_current_likelihood"] is not None]
     assert shown  # the fixture's spot has an outlook
     for s in shown:
         now, top = (round(s[k] * 100) for k in ("rip_current_likelihood", "max_rip_current_likelihood"))
-        assert f'<td class="num">{now} % / {top} %</td>' in text
+        assert f'rip currents {now}\u00a0%<a href="#rip-note">*</a>' in text  # no-break space: "%" stays
+        assert f'rip currents up to {top}\u00a0%<a href="#rip-note">*</a>' in text
+        assert ("shore-break now" if s["shore_break"] else "no shore-break") in text
     page = html(c.get(f"/agencies/{AGENCY_ID}"))
     assert str(escape(RIP_CAUTION)) in page[: page.index("<table")]  # also among the page's cautions
 
@@ -188,14 +190,14 @@ def test_shore_break_text_now_ahead_none_and_no_outlook() -> None:
 
     from app.web.views import percent, shore_break_text
 
-    assert shore_break_text(True, "2030-06-01T10:00:00Z") == "now"
-    assert shore_break_text(False, "2030-06-01T14:00:00Z") == "from Sat 01 14:00 UTC"
+    assert shore_break_text(True, "2030-06-01T10:00:00Z") is None  # said in the "now" cell
+    assert shore_break_text(False, "2030-06-01T14:00:00Z") == "shore-break from Sat 01 14:00 UTC"
     assert shore_break_text(False, "2030-06-01T14:00:00Z", ZoneInfo("America/Sao_Paulo")).endswith(
         "UTC, 11:00 America/Sao_Paulo (UTC-03:00)"
     )  # spot time beside UTC; São Paulo has kept UTC-3 all year since 2019 (IANA tz database)
-    assert shore_break_text(False, None) == "none ahead"
-    assert shore_break_text(None, None) == "–"
-    assert (percent(0.354), percent(None)) == ("35 %", "–")
+    assert shore_break_text(False, None) == "no shore-break ahead"
+    assert shore_break_text(None, None) is None  # no outlook: nothing to say
+    assert (percent(0.354), percent(None)) == ("35\u00a0%", "–")
 
 
 def test_a_breaker_type_the_wind_moved_is_marked() -> None:
