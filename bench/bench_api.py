@@ -7,8 +7,11 @@ it when missing). In one run, each server in its own uvicorn subprocess with the
 
 - the baseline: a bare FastAPI app whose one endpoint returns a constant (`bench.bare_app`);
 - shoalcast (`app.api.main.create_app`, all its middleware) on a populated SQLite database:
-  /healthz, the agency hazards with and without If-None-Match (304 and 200), and the cached
-  72-hour outlook JSON of one spot.
+  /healthz, the agency hazards with and without If-None-Match (304 and 200), the cached
+  72-hour outlook JSON of one spot and its HTML page.
+
+uvicorn runs with uvloop and httptools, as `shoalcast serve` does; wrk and the server are pinned to
+different CPUs where `taskset` can (`cpus`).
 
 Ratios are req/s over the baseline's, measured right before each path (the load of a shared
 machine drifts between phases). A ratio is reported only when that baseline reaches
@@ -43,7 +46,20 @@ AIMS = {  # path -> minimum ratio to the bare endpoint (issue 16)
 }
 P99_AIM_MS = 50.0  # for the 304 path at 50 connections
 ROOT = Path(__file__).resolve().parents[1]
-UVICORN_FLAGS = ["--host", "127.0.0.1", "--workers", "1", "--log-level", "warning", "--no-access-log"]
+# uvloop and httptools, as `shoalcast serve` chooses them (`uvicorn[standard]`): asyncio and h11 made
+# about 0.6x the requests per second on the bare endpoint here
+UVICORN_FLAGS = ["--host", "127.0.0.1", "--workers", "1", "--log-level", "warning", "--no-access-log",
+                 "--loop", "uvloop", "--http", "httptools"]  # fmt: skip
+
+
+def cpus() -> tuple[int, int] | None:
+    """(wrk's CPU, the server's CPU) when both can be pinned apart (Linux, 2+ CPUs, `taskset`), else
+    None. Unpinned, the kernel often ran wrk and the worker on the same core for a while (the bare
+    endpoint measured 0.7-0.85x of a pinned run with a busy neighbour on the machine)."""
+    mine = sorted(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else []
+    if len(mine) < 2 or shutil.which("taskset") is None:
+        return None
+    return mine[0], mine[-1]
 
 
 def _populate(url: str) -> None:
@@ -79,8 +95,10 @@ def _free_port() -> int:
 
 def _serve(target: str, env: dict[str, str]) -> tuple[subprocess.Popen, str]:
     port = _free_port()
+    pin = cpus()
+    prefix = ["taskset", "-c", str(pin[1])] if pin else []
     proc = subprocess.Popen(
-        [sys.executable, "-m", "uvicorn", target, "--factory", "--port", str(port), *UVICORN_FLAGS],
+        [*prefix, sys.executable, "-m", "uvicorn", target, "--factory", "--port", str(port), *UVICORN_FLAGS],
         env=env, cwd=ROOT, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL,
     )
     base = f"http://127.0.0.1:{port}"
@@ -124,7 +142,9 @@ def parse_wrk(out: str) -> dict:
 
 
 def _wrk(url: str, seconds: float, headers: dict[str, str]) -> dict:
-    cmd = ["wrk", f"-t{WRK_THREADS}", f"-c{CONNECTIONS}", f"-d{max(1, round(seconds))}s", "--latency", "--timeout", "10s"]
+    pin = cpus()
+    cmd = [*(["taskset", "-c", str(pin[0])] if pin else []),
+           "wrk", f"-t{WRK_THREADS}", f"-c{CONNECTIONS}", f"-d{max(1, round(seconds))}s", "--latency", "--timeout", "10s"]  # fmt: skip
     for k, v in headers.items():
         cmd += ["-H", f"{k}: {v}"]
     out = subprocess.run([*cmd, url], capture_output=True, text=True, check=True, timeout=seconds + 60).stdout
@@ -161,6 +181,7 @@ def run(quick: bool = False, *, seconds: float | None = None) -> list[dict]:
            "SHOALCAST_DATA_DIR": str(tmp)}
     hz = f"/v1/agencies/{AGENCY}/hazards"
     outlook = f"/v1/spots/{fx.SPOT_ID}/outlook?hours=72"
+    page = f"/spots/{fx.SPOT_ID}?hours=72"
     results: dict[str, dict] = {}
     bare: dict[str, dict] = {}
     procs = []
@@ -173,11 +194,13 @@ def run(quick: bool = False, *, seconds: float | None = None) -> list[dict]:
         assert status == 200 and etag, (status, etag)
         o_status, _ = _probe(base + outlook, {})  # computes and caches the outlook
         assert o_status == 200, o_status
+        assert _probe(base + page, {})[0] == 200
         plan = [
             ("healthz", base + "/healthz", {}, 200),
             ("hazards 304", base + hz, {"If-None-Match": etag}, 304),
             ("hazards 200", base + hz, {}, 200),
             ("outlook json", base + outlook, {}, 200),
+            ("spot page html", base + page, {}, 200),
         ]
         for name, u, headers, expect in plan:
             got, _ = _probe(u, headers)
@@ -196,7 +219,9 @@ def run(quick: bool = False, *, seconds: float | None = None) -> list[dict]:
 
 def rows(results: dict[str, dict], bare: dict[str, dict], seconds: float) -> list[dict]:
     """One row for the baseline (its runs), one per path with its ratio to the baseline run just before it."""
-    label = f"api (wrk, 1 worker, {CONNECTIONS} connections, {seconds:.0f} s per run): "
+    pin = cpus()
+    where = f"wrk on CPU {pin[0]}, server on CPU {pin[1]}" if pin else "unpinned"
+    label = f"api (wrk -t{WRK_THREADS}, 1 uvloop+httptools worker, {CONNECTIONS} connections, {seconds:.0f} s per run, {where}): "
     rates = [m["rps"] for m in bare.values()]
     out = [{
         "benchmark": label + "bare FastAPI constant endpoint (run before each path)",

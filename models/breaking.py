@@ -435,10 +435,18 @@ def shoal_to_breaking(
     if todo.size:
         raise ConvergenceError("shoal_to_breaking: no break point found above 1e-4 of the start depth")
     side = np.zeros(n, dtype=np.int8)  # which end was replaced last time (Illinois halving)
+    out_ub = ub_  # the breaking ends of all live waves; `act` indexes those still refined
+    act = np.arange(n)
     for _ in range(_REFINE):
         # done when H/Hb at the breaking end is 1 to 1e-12 (or the bracket cannot shrink further)
-        if n == 0 or np.all((gb <= 1e-12) | (np.abs(ub_ - ua) <= 1e-14 * np.maximum(1.0, np.abs(ub_)))):
+        done = (gb <= 1e-12) | (np.abs(ub_ - ua) <= 1e-14 * np.maximum(1.0, np.abs(ub_)))
+        if act.size == 0 or np.all(done):
             break
+        if 2 * np.count_nonzero(done) > done.size:  # most are done: go on with the rest only
+            out_ub[act[done]] = ub_[done]
+            keep = ~done
+            act, ua, ga, ub_, gb, side = act[keep], ua[keep], ga[keep], ub_[keep], gb[keep], side[keep]
+            P = tuple(v[keep] for v in P)
         den = gb - ga
         mid = 0.5 * (ua + ub_)
         uc = np.where(den > 0, ub_ - gb * (ub_ - ua) / np.where(den > 0, den, 1.0), mid)
@@ -454,7 +462,8 @@ def shoal_to_breaking(
         side = np.where(brk, 1, -1).astype(np.int8)
     else:
         raise ConvergenceError("shoal_to_breaking: the break point did not converge")
-    ub[live] = ub_
+    out_ub[act] = ub_
+    ub[live] = out_ub
     qb = np.exp(ub)
     lo = np.where(at_start, h1, qb * np.tanh(qb) / k0)
     db = np.where(at_start, h1, lo)

@@ -14,7 +14,18 @@ def register(sub: argparse._SubParsersAction) -> None:  # type: ignore[type-arg]
     p.add_argument("--no-scheduler", action="store_true",
                    help="do not run the scheduler in-process (run `shoalcast worker` instead)")
     p.add_argument("--migrate", action="store_true", help="upgrade the database schema before serving")
+    p.add_argument("--access-log", action="store_true",
+                   help="log a line per request (off by default: it costs throughput; /metrics counts requests)")
     p.set_defaults(func=_run)
+
+
+def server_impl() -> tuple[str, str]:
+    """uvicorn's event loop and HTTP parser: uvloop and httptools (`uvicorn[standard]`, about 1.6x
+    the requests per second of asyncio and h11 on a bare endpoint, bench/bench_api.py) where they
+    are installed (uvloop is not built for Windows), else asyncio and h11."""
+    from importlib.util import find_spec
+
+    return ("uvloop" if find_spec("uvloop") else "asyncio"), ("httptools" if find_spec("httptools") else "h11")
 
 
 def _run(args: argparse.Namespace) -> int:
@@ -35,6 +46,7 @@ def _run(args: argparse.Namespace) -> int:
         from app.errors import BadInput
 
         raise BadInput("`--workers` must be at least 1", field="workers")
+    loop, http = server_impl()
     uvicorn.run("app.api.main:create_app", factory=True, host=args.host, port=args.port, workers=args.workers,
-                log_level="info", proxy_headers=False)
+                log_level="info", proxy_headers=False, loop=loop, http=http, access_log=args.access_log)  # fmt: skip
     return 0

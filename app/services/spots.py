@@ -31,6 +31,7 @@ __all__ = [
     "depth_grid_of",
     "get_spot",
     "regional_grids_of",
+    "spot_row",
     "import_spot",
     "list_spots",
     "load_profile",
@@ -338,6 +339,15 @@ def list_spots(session: Session) -> list[Spot]:
 
 def get_spot(session: Session, spot_id: str) -> Spot:
     spot = session.scalars(_spot_query().where(Spot.id == spot_id)).first()
+    if spot is None:
+        raise NotFound(f"no spot with id {spot_id!r}")
+    return spot
+
+
+def spot_row(session: Session, spot_id: str) -> Spot:
+    """The spot's own row, without its grids and tables (`get_spot` loads those): for answers that
+    need only its name, time zone or existence, such as a page's ETag."""
+    spot = session.get(Spot, spot_id)
     if spot is None:
         raise NotFound(f"no spot with id {spot_id!r}")
     return spot

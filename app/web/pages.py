@@ -20,6 +20,7 @@ from app.api.deps import SessionDep, SettingsDep, cache_control, conditional
 from app.api.http import etag_for
 from app.db.tables import Observation, Spot, TransferTableRow
 from app.errors import ShoalcastError
+from app.services.memo import VersionMemo
 from app.web import palette, views
 from app.web.locator import Place, locator_svg
 from app.web.render import render
@@ -29,6 +30,10 @@ __all__ = ["router"]
 router = APIRouter(include_in_schema=False)
 PAGE_VERSION = "pages-2"  # part of every page ETag: bump when a template changes what it shows
 STALE_AFTER = timedelta(hours=3)
+# Rendered spot pages per ETag, as the JSON outlook keeps its bytes: the ETag holds the data version,
+# the hour, the preferences and the latest verification, so an entry is never out of date, and a
+# reload costs the ETag's reads instead of reading the stored outlook and rendering it again.
+_pages: VersionMemo[bytes] = VersionMemo(64)
 
 
 def _html(body: str) -> HTMLResponse:
@@ -129,10 +134,10 @@ def spot_page(spot_id: str, request: Request, session: SessionDep, settings: Set
     from app.api.routes.outlooks import outlook_version
     from app.services import outlooks
     from app.services.agencies import get_agency
-    from app.services.spots import get_spot
+    from app.services.spots import spot_row
 
     prefs = views.parse_prefs(request.query_params, default_hours=settings.outlook_hours)
-    spot = get_spot(session, spot_id)
+    spot = spot_row(session, spot_id)  # the row alone: a reload answered from `_pages` loads no grids
     if prefs.agency is not None:
         get_agency(session, prefs.agency)  # 404 page for an unknown agency
     now = _now()
@@ -142,6 +147,15 @@ def spot_page(spot_id: str, request: Request, session: SessionDep, settings: Set
                     None if verified is None else verified.id)
 
     def build() -> Response:
+        page = _pages.get(etag)
+        if page is None:
+            html, error = render_page()
+            page = html.encode()
+            if error is None:  # a page explaining a failure is made again next time
+                _pages.put(etag, page)
+        return HTMLResponse(page)
+
+    def render_page() -> tuple[str, str | None]:
         error = None
         body: dict[str, Any] = {"steps": [], "notes": [], "cautions": _cautions()}
         try:
@@ -160,7 +174,7 @@ def spot_page(spot_id: str, request: Request, session: SessionDep, settings: Set
                       prefs=prefs, error=error, windows=windows, cautions=view["cautions"] or _cautions(),
                       show_tz=view["show_local"], zone=view["zone"], show_hours=True,
                       nav_agencies=_nav(session), verification=views.verification_view(session, verified))
-        return _html(html)
+        return html, error
 
     return conditional(request, etag, build, cache=cache_control(settings))
 

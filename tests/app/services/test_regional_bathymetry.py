@@ -99,6 +99,33 @@ def test_regional_grid_imports_builds_and_marks_continued_directions(
     assert len(again["built"]) == 1
 
 
+def test_refraction_diffraction_tables_get_the_regional_grids(
+    migrated_db: str, tmp_path: Path, capsys: pytest.CaptureFixture[str]
+) -> None:
+    # the table service hands the regional grids to the refraction-diffraction build as to the
+    # rays (its ray part and the rays that bring the wave to its start lines): the table records
+    # the regional grid it traced on, and its computed bins exist
+    from sqlalchemy import select
+
+    from app.db.tables import BreakPoint
+    from app.services.tables import load_table
+
+    write_asc(tmp_path / "grid.asc")
+    write_region(tmp_path / "region.nc")
+    model = 'method = "refraction-diffraction"\nperiod_min_s = 12.0\nperiod_max_s = 16.0\nperiod_count = 2\nlaunch_spacing_deg = 1.0\n'
+    profile = write_profile(tmp_path, extra=model + regional_block())
+    _json(capsys, ["spot", "add", "--json", str(profile)])
+    built = _json(capsys, ["tables", "build", "--workers", "1", "--json"])
+    assert [b["method"] for b in built["built"]] == ["refraction-diffraction"] and not built["failed"]
+    with session_scope(migrated_db) as session:
+        bp = session.scalars(select(BreakPoint).where(BreakPoint.spot_id == "test-reef")).one()
+        t = load_table(bp.table)
+    assert t.meta["method"] == "refraction-diffraction"
+    [reg] = t.meta["regional_grids"]
+    assert reg["spacing_m"][0] == pytest.approx(250.0, rel=0.02)
+    assert sum(t.meta["refraction_diffraction_bins"]) > 0
+
+
 BAD = {
     "no overlap": (dict(shift_x=-20000.0), {}, "regional_bathymetry.0.file", "does not overlap"),
     "holes": (dict(hole=True), {}, "regional_bathymetry.0.file", "no-data"),

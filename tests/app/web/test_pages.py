@@ -140,6 +140,30 @@ def test_assets_are_served_by_shoalcast(site: Api) -> None:
     assert "@media" not in c.get("/static/print.css").text.split("\n", 1)[0] and 'media="print"' in page
 
 
+def test_spot_page_is_rendered_once_per_etag(site: Api, monkeypatch: pytest.MonkeyPatch) -> None:
+    """A reload within the same ETag (data version, hour, preferences) is answered from the rendered
+    bytes, as the JSON outlook is: the stored outlook is not read again; other preferences render."""
+    from app.services import outlooks
+
+    calls: list[str] = []
+    real = outlooks.get_outlook
+
+    def counting(session, spot_id, *args, **kw):  # type: ignore[no-untyped-def]
+        calls.append(spot_id)
+        return real(session, spot_id, *args, **kw)
+
+    monkeypatch.setattr(outlooks, "get_outlook", counting)
+    c = site.client
+    first = c.get(f"/spots/{SPOT_ID}", params={"hours": 9})
+    again = c.get(f"/spots/{SPOT_ID}", params={"hours": 9})
+    assert first.status_code == again.status_code == 200
+    assert again.headers["etag"] == first.headers["etag"]  # the same hour (the ETag holds it)
+    assert calls == [SPOT_ID] and again.content == first.content
+    other = c.get(f"/spots/{SPOT_ID}", params={"hours": 9, "units": "imperial"})
+    assert other.headers["etag"] != first.headers["etag"] and calls == [SPOT_ID, SPOT_ID]
+    assert "Breaker height (ft)" in other.text
+
+
 def test_board_shows_rip_likelihood_and_shore_break_with_their_caution(site: Api) -> None:
     from markupsafe import escape
 
