@@ -61,6 +61,6 @@ def test_round_many_equals_the_one_array_forms(specs: list[tuple[list[float], fl
     got = round_many(arrays)
     for (a, step), g in zip(arrays, got, strict=True):
         if a.ndim == 2:
-            assert g == grid(a, 1.0 if step == DEG else step, as_deg=step == DEG)
+            assert [list(row) for row in g] == grid(a, 1.0 if step == DEG else step, as_deg=step == DEG)
         else:
             assert g == (degs(a) if step == DEG else nums(a, step))
