@@ -50,7 +50,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from models.bathymetry import DepthGrid
 from models.constants import TWO_PI, G
-from models.edges import continue_to_deep
+from models.edges import EDGES, continue_to_deep
 from models.errors import InvalidInput
 from models.waves import group_velocity_ratio, wavenumber
 
@@ -141,8 +141,6 @@ def _positive(name: str, v: float, *, allow_inf: bool = False) -> float:
     if not ok:
         raise InvalidInput(f"`{name}` must be a positive number, got {v!r}")
     return float(v)
-
-EDGES = ("south", "north", "west", "east")
 
 
 def _edge_names(open_edges) -> NDArray[np.bool_]:
